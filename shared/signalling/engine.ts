@@ -1,0 +1,361 @@
+import type { Layout } from '../schemas/layout'
+import { IndicationReader, computeIndications, sameIndication } from './aspects'
+import { scaleSpeed } from './scale'
+import { isLeg, legOf, own, placeKey, topologyOf, type Topology } from './topology'
+import type {
+  Alarm,
+  Change,
+  ErrorChange,
+  Indication,
+  LayoutEvent,
+  LayoutState,
+  OverrideMode,
+  TurnoutPosition,
+} from './types'
+
+/** Longest train description accepted by interpose. */
+export const MAX_DESCRIPTION_LENGTH = 16
+
+/** All blocks free, detectors clear, turnouts unknown, overrides auto, no descriptions, no alarms. */
+export function initialState(layout: Layout): LayoutState {
+  const topo = topologyOf(layout)
+  const state: LayoutState = {
+    revision: 0,
+    detectors: {},
+    occupied: {},
+    enteredAt: {},
+    turnouts: {},
+    overrides: {},
+    descriptions: {},
+    alarms: [],
+    indications: {},
+    signalRevisions: {},
+    turnoutRevisions: {},
+    alarmCount: 0,
+  }
+  for (const b of topo.blocks) {
+    state.occupied[b.id] = false
+    for (const d of b.detectors) state.detectors[d] = false
+  }
+  for (const t of topo.turnoutById.keys()) {
+    state.turnouts[t] = 'unknown'
+    state.turnoutRevisions[t] = 0
+  }
+  for (const s of topo.signals) {
+    state.overrides[s.id] = 'auto'
+    state.signalRevisions[s.id] = 0
+  }
+  state.indications = computeIndications(layout, state)
+  return state
+}
+
+type MapKey = Exclude<keyof LayoutState, 'revision' | 'alarmCount' | 'alarms'>
+
+/**
+ * Write access to the state during one event. `copy` mode (applyEvent) copies each map before its first
+ * write and leaves the input untouched; `inPlace` mode (createEngine) writes into the state it holds.
+ */
+class Draft {
+  readonly base: LayoutState
+  readonly next: LayoutState
+  private readonly copied = new Set<string>()
+  private readonly inPlace: boolean
+
+  constructor(base: LayoutState, inPlace: boolean) {
+    this.base = base
+    this.inPlace = inPlace
+    this.next = inPlace ? base : { ...base }
+  }
+
+  map<K extends MapKey>(k: K): LayoutState[K] {
+    if (!this.inPlace && !this.copied.has(k)) {
+      this.copied.add(k)
+      this.next[k] = { ...this.next[k] }
+    }
+    return this.next[k]
+  }
+
+  alarms(): Alarm[] {
+    if (!this.inPlace && !this.copied.has('alarms')) {
+      this.copied.add('alarms')
+      this.next.alarms = this.next.alarms.slice()
+    }
+    return this.next.alarms
+  }
+}
+
+const TURNOUT_POSITIONS: readonly TurnoutPosition[] = ['normal', 'reverse', 'unknown']
+const OVERRIDE_MODES: readonly OverrideMode[] = ['hold', 'auto', 'clear']
+
+const invalid = (path: string, message: string): ErrorChange => ({ type: 'error', code: 'invalid-event', path, message })
+const unknown = (path: string, message: string): ErrorChange => ({ type: 'error', code: 'unknown-id', path, message })
+
+function checkEvent(event: unknown): ErrorChange | null {
+  if (typeof event !== 'object' || event === null) return invalid('', 'an event is an object with a type')
+  const e = event as Record<string, unknown>
+  if (typeof e.at !== 'number' || !Number.isFinite(e.at)) return invalid('at', 'at must be a time in epoch milliseconds')
+  if (e.by !== undefined && typeof e.by !== 'string') return invalid('by', 'by must be a string')
+  switch (e.type) {
+    case 'detector':
+      if (typeof e.detector !== 'string') return invalid('detector', 'detector must be a detector id')
+      if (typeof e.occupied !== 'boolean') return invalid('occupied', 'occupied must be true or false')
+      return null
+    case 'turnout':
+      if (typeof e.turnout !== 'string') return invalid('turnout', 'turnout must be a turnout id')
+      if (!TURNOUT_POSITIONS.includes(e.position as TurnoutPosition)) return invalid('position', 'position must be normal, reverse or unknown')
+      return null
+    case 'override':
+      if (typeof e.signal !== 'string') return invalid('signal', 'signal must be a signal id')
+      if (!OVERRIDE_MODES.includes(e.mode as OverrideMode)) return invalid('mode', 'mode must be hold, auto or clear')
+      return null
+    case 'interpose':
+      if (typeof e.block !== 'string') return invalid('block', 'block must be a block id')
+      if (typeof e.description !== 'string') return invalid('description', 'description must be a string')
+      if (e.description.trim().length > MAX_DESCRIPTION_LENGTH)
+        return invalid('description', `a train description is at most ${MAX_DESCRIPTION_LENGTH} characters`)
+      return null
+    case 'acknowledge':
+      if (typeof e.alarm !== 'string') return invalid('alarm', 'alarm must be an alarm id')
+      return null
+    default:
+      return invalid('type', 'type must be detector, turnout, override, interpose or acknowledge')
+  }
+}
+
+/**
+ * The block an entering train came from: among the occupied blocks with a link into `block`, prefer one whose
+ * link is not set against by a turnout, then the one entered most recently (the moving train), then link order.
+ */
+function enteringFrom(topo: Topology, state: LayoutState, block: string): string | null {
+  let best: string | null = null
+  let bestAgainst = true
+  let bestAt = -Infinity
+  for (const p of topo.inc.get(block) ?? []) {
+    if (state.occupied[p] !== true) continue
+    const against = setAgainst(topo, state, p, block)
+    const at = own(state.enteredAt, p) ? state.enteredAt[p]! : -Infinity
+    if (best === null || (bestAgainst && !against) || (against === bestAgainst && at > bestAt)) {
+      best = p
+      bestAgainst = against
+      bestAt = at
+    }
+  }
+  return best
+}
+
+/** True when a turnout with a known position is set so that a train cannot run from `p` into `x`. */
+function setAgainst(topo: Topology, state: LayoutState, p: string, x: string): boolean {
+  for (const t of topo.turnoutsIn.get(p) ?? []) {
+    if (isLeg(t, x)) {
+      const leg = legOf(t, state.turnouts[t.id] ?? 'unknown')
+      if (leg !== null && leg !== x) return true
+    }
+  }
+  for (const t of topo.turnoutsIn.get(x) ?? []) {
+    if (isLeg(t, p)) {
+      const leg = legOf(t, state.turnouts[t.id] ?? 'unknown')
+      if (leg !== null && leg !== p) return true
+    }
+  }
+  return false
+}
+
+/** Recomputes the signals the event can have changed and records the indications that did change. */
+function refresh(topo: Topology, draft: Draft, seeds: Iterable<string>, changes: Change[]): void {
+  const affected = new Set<string>()
+  const level1: string[] = []
+  for (const s of seeds) {
+    if (!affected.has(s)) {
+      affected.add(s)
+      level1.push(s)
+    }
+  }
+  // signals reading an affected signal as their next, and four-aspect signals two steps behind
+  const level2: string[] = []
+  for (const s of level1) {
+    for (const r of topo.rearOf.get(s) ?? []) {
+      if (!affected.has(r)) {
+        affected.add(r)
+        level2.push(r)
+      }
+    }
+  }
+  for (const s of level2) {
+    for (const r of topo.rearOf.get(s) ?? []) {
+      if (!affected.has(r) && topo.signalById.get(r)!.kind === 'four-aspect') affected.add(r)
+    }
+  }
+  const order = [...affected].sort((a, b) => topo.signalOrder.get(a)! - topo.signalOrder.get(b)!)
+  const reader = new IndicationReader(topo, draft.next)
+  for (const id of order) {
+    const sig = topo.signalById.get(id)!
+    const now = reader.indication(sig)
+    const before = draft.next.indications[id]
+    if (!sameIndication(before, now)) {
+      draft.map('indications')[id] = now
+      changes.push({ type: 'indication', signal: id, indication: now, previous: before ?? now })
+    }
+  }
+}
+
+function byOf(e: { by?: string }): { by?: string } {
+  return typeof e.by === 'string' ? { by: e.by } : {}
+}
+
+function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
+  const bad = checkEvent(event)
+  if (bad) return [bad]
+  const topo = topologyOf(layout)
+  const base = draft.base
+  const changes: Change[] = []
+  const at = event.at
+  switch (event.type) {
+    case 'detector': {
+      const block = topo.detectorBlock.get(event.detector)
+      if (block === undefined) return [unknown('detector', `unknown detector "${event.detector}"`)]
+      if (base.detectors[event.detector] === event.occupied) return []
+      draft.map('detectors')[event.detector] = event.occupied
+      changes.push({ type: 'detector', detector: event.detector, block, occupied: event.occupied, at })
+      const dets = topo.blockById.get(block)!.detectors
+      const occupied = dets.some((d) => draft.next.detectors[d] === true)
+      if (occupied !== (base.occupied[block] === true)) {
+        changes.push({ type: 'block', block, occupied, at })
+        if (occupied) enterBlock(topo, layout, draft, block, at, changes)
+        else leaveBlock(draft, block, at, changes)
+        refresh(topo, draft, topo.signalsByBlock.get(block) ?? [], changes)
+      }
+      break
+    }
+    case 'turnout': {
+      const t = topo.turnoutById.get(event.turnout)
+      if (!t) return [unknown('turnout', `unknown turnout "${event.turnout}"`)]
+      if (base.turnouts[t.id] === event.position) return []
+      draft.map('turnouts')[t.id] = event.position
+      const revision = (base.turnoutRevisions[t.id] ?? 0) + 1
+      draft.map('turnoutRevisions')[t.id] = revision
+      changes.push({ type: 'turnout', turnout: t.id, position: event.position, revision, at, ...byOf(event) })
+      refresh(topo, draft, topo.signalsByTurnout.get(t.id) ?? [], changes)
+      break
+    }
+    case 'override': {
+      const s = topo.signalById.get(event.signal)
+      if (!s) return [unknown('signal', `unknown signal "${event.signal}"`)]
+      if ((base.overrides[s.id] ?? 'auto') === event.mode) return []
+      draft.map('overrides')[s.id] = event.mode
+      const revision = (base.signalRevisions[s.id] ?? 0) + 1
+      draft.map('signalRevisions')[s.id] = revision
+      changes.push({ type: 'override', signal: s.id, mode: event.mode, revision, at, ...byOf(event) })
+      refresh(topo, draft, [s.id], changes)
+      break
+    }
+    case 'interpose': {
+      if (!topo.blockById.has(event.block)) return [unknown('block', `unknown block "${event.block}"`)]
+      const text = event.description.trim()
+      const had = own(base.descriptions, event.block) ? base.descriptions[event.block]! : null
+      if (text === '') {
+        if (had === null) return []
+        delete draft.map('descriptions')[event.block]
+        changes.push({ type: 'description', block: event.block, description: null, reason: 'clear', at, ...byOf(event) })
+      } else {
+        if (had === text) return []
+        draft.map('descriptions')[event.block] = text
+        changes.push({ type: 'description', block: event.block, description: text, reason: 'interpose', at, ...byOf(event) })
+      }
+      break
+    }
+    case 'acknowledge': {
+      const i = base.alarms.findIndex((a) => a.id === event.alarm)
+      if (i < 0) return [unknown('alarm', `unknown alarm "${event.alarm}"`)]
+      const a = base.alarms[i]!
+      if (a.acknowledgedAt !== null)
+        return [{ type: 'error', code: 'already-acknowledged', path: 'alarm', message: `alarm "${a.id}" is already acknowledged` }]
+      const acked: Alarm = { ...a, acknowledgedAt: at, ...(typeof event.by === 'string' ? { acknowledgedBy: event.by } : {}) }
+      draft.alarms()[i] = acked
+      changes.push({ type: 'alarm-acknowledged', alarm: acked })
+      break
+    }
+  }
+  draft.next.revision = base.revision + 1
+  return changes
+}
+
+function enterBlock(topo: Topology, layout: Layout, draft: Draft, block: string, at: number, changes: Change[]): void {
+  const base = draft.base
+  const from = enteringFrom(topo, base, block)
+  const description = from !== null && own(base.descriptions, from) ? base.descriptions[from]! : null
+  if (from !== null) {
+    // signal passed at danger: judged on what the signal showed just before this event
+    const sig = topo.stopAt.get(placeKey(from, block))
+    if (sig && base.indications[sig.id]?.aspect === 'danger') {
+      const n = base.alarmCount + 1
+      const alarm: Alarm = { id: `spad-${n}`, kind: 'spad', signal: sig.id, block, description, at, acknowledgedAt: null }
+      draft.next.alarmCount = n
+      draft.alarms().push(alarm)
+      changes.push({ type: 'alarm', alarm })
+    }
+  }
+  if (from !== null && description !== null) {
+    draft.map('descriptions')[block] = description
+    changes.push({ type: 'description', block, description, reason: 'step', from, at })
+    if (own(base.enteredAt, from)) {
+      const seconds = (at - base.enteredAt[from]!) / 1000
+      const lengthMm = topo.blockById.get(from)!.lengthMm
+      if (seconds > 0) {
+        const { kmh, mph } = scaleSpeed({ lengthMm, seconds, ratio: layout.scale.ratio })
+        changes.push({ type: 'speed', block: from, description, lengthMm, seconds, kmh, mph, at })
+      }
+    }
+  }
+  draft.map('occupied')[block] = true
+  draft.map('enteredAt')[block] = at
+}
+
+function leaveBlock(draft: Draft, block: string, at: number, changes: Change[]): void {
+  draft.map('occupied')[block] = false
+  delete draft.map('enteredAt')[block]
+  if (own(draft.next.descriptions, block)) {
+    delete draft.map('descriptions')[block]
+    changes.push({ type: 'description', block, description: null, reason: 'clear', at })
+  }
+}
+
+/**
+ * Applies one event to a layout state. Pure: the input state is not changed; the returned state shares the
+ * parts the event did not touch. An event that names an unknown id or is malformed returns one error change
+ * and the input state itself.
+ */
+export function applyEvent(layout: Layout, state: LayoutState, event: LayoutEvent): { state: LayoutState; changes: Change[] } {
+  const draft = new Draft(state, false)
+  const changes = run(layout, draft, event)
+  if (changes.length === 0 && draft.next.revision === state.revision) return { state, changes }
+  if (changes.length === 1 && changes[0]!.type === 'error') return { state, changes }
+  return { state: draft.next, changes }
+}
+
+export interface Engine {
+  /** Applies one event in place and returns what changed (the same changes applyEvent returns). */
+  apply(event: LayoutEvent): Change[]
+  /** The live state. Read-only: copy it (structuredClone) to keep a snapshot. */
+  state(): LayoutState
+  /** Current indication of every signal. */
+  indications(): Record<string, Indication>
+}
+
+/**
+ * The live variant for the server: keeps one state and updates it in place. The per-layout lookups (which
+ * signals depend on which block and turnout) are built once, so an event costs what it touches.
+ * A given state is copied first and its indications recomputed.
+ */
+export function createEngine(layout: Layout, state?: LayoutState): Engine {
+  topologyOf(layout)
+  const current: LayoutState = state ? structuredClone(state) : initialState(layout)
+  if (state) current.indications = computeIndications(layout, current)
+  return {
+    apply(event) {
+      const draft = new Draft(current, true)
+      return run(layout, draft, event)
+    },
+    state: () => current,
+    indications: () => current.indications,
+  }
+}

@@ -1,0 +1,190 @@
+import type { Layout } from '../schemas/layout'
+
+export type { Layout }
+
+export type Aspect = 'danger' | 'caution' | 'preliminary-caution' | 'proceed'
+export type OverrideMode = 'hold' | 'auto' | 'clear'
+export type TurnoutPosition = 'normal' | 'reverse' | 'unknown'
+
+/** What a signal shows, as the panels and the hardware receive it. */
+export interface Indication {
+  aspect: Aspect
+  /** Junction indicator position when lit, else null. Lit only with a proceed-type aspect. */
+  indicator: string | null
+  override: OverrideMode
+  /** True where a `clear` override shows more than the line ahead justifies. */
+  exceedsLine: boolean
+}
+
+/** A signal passed at danger. Kept after acknowledgement with `acknowledgedAt` set. */
+export interface Alarm {
+  id: string
+  kind: 'spad'
+  signal: string
+  /** The block the train entered past the signal. */
+  block: string
+  /** Train description of the train, if it had one. */
+  description: string | null
+  /** Epoch milliseconds of the detector event. */
+  at: number
+  acknowledgedAt: number | null
+  acknowledgedBy?: string
+}
+
+/**
+ * The whole live state of one layout. Plain JSON data: it can be stored, sent and compared.
+ * Treat it as read-only; the engine replaces or updates it.
+ */
+export interface LayoutState {
+  /** Number of events that changed the state. */
+  revision: number
+  /** Every detector of the layout: true while it reports occupied. */
+  detectors: Record<string, boolean>
+  /** Every block: true while any of its detectors reports occupied. */
+  occupied: Record<string, boolean>
+  /** Occupied blocks only: epoch milliseconds at which the block last became occupied. */
+  enteredAt: Record<string, number>
+  turnouts: Record<string, TurnoutPosition>
+  overrides: Record<string, OverrideMode>
+  /** Described blocks only (berths): the train description standing in that block. */
+  descriptions: Record<string, string>
+  alarms: Alarm[]
+  /** Current indication of every signal (kept up to date by the engine). */
+  indications: Record<string, Indication>
+  /** Per signal: raised each time its override changes. Commands made against an older revision are stale. */
+  signalRevisions: Record<string, number>
+  /** Per turnout: raised each time its position changes. */
+  turnoutRevisions: Record<string, number>
+  /** Number of alarms raised so far; alarm ids are made from it. */
+  alarmCount: number
+}
+
+export interface DetectorEvent {
+  type: 'detector'
+  detector: string
+  occupied: boolean
+  at: number
+}
+export interface TurnoutEvent {
+  type: 'turnout'
+  turnout: string
+  position: TurnoutPosition
+  at: number
+  by?: string
+}
+export interface OverrideEvent {
+  type: 'override'
+  signal: string
+  mode: OverrideMode
+  at: number
+  by?: string
+}
+export interface InterposeEvent {
+  type: 'interpose'
+  block: string
+  /** The description to write into the block; an empty string cancels the description there. */
+  description: string
+  at: number
+  by?: string
+}
+export interface AcknowledgeEvent {
+  type: 'acknowledge'
+  alarm: string
+  at: number
+  by?: string
+}
+export type LayoutEvent = DetectorEvent | TurnoutEvent | OverrideEvent | InterposeEvent | AcknowledgeEvent
+
+/** A detector reported a new state (whether or not its block's occupancy changed). */
+export interface DetectorChange {
+  type: 'detector'
+  detector: string
+  block: string
+  occupied: boolean
+  at: number
+}
+export interface BlockChange {
+  type: 'block'
+  block: string
+  occupied: boolean
+  at: number
+}
+export interface IndicationChange {
+  type: 'indication'
+  signal: string
+  indication: Indication
+  previous: Indication
+}
+export interface TurnoutChange {
+  type: 'turnout'
+  turnout: string
+  position: TurnoutPosition
+  revision: number
+  at: number
+  by?: string
+}
+export interface OverrideChange {
+  type: 'override'
+  signal: string
+  mode: OverrideMode
+  revision: number
+  at: number
+  by?: string
+}
+export interface DescriptionChange {
+  type: 'description'
+  block: string
+  /** The description now in the block, or null when the berth was cleared. */
+  description: string | null
+  /**
+   * step: moved in from block `from` as the train entered; interpose: typed in by an operator;
+   * clear: the block cleared, or an empty interpose cancelled it.
+   */
+  reason: 'step' | 'interpose' | 'clear'
+  from?: string
+  at: number
+  by?: string
+}
+export interface AlarmChange {
+  type: 'alarm'
+  alarm: Alarm
+}
+export interface AlarmAcknowledgedChange {
+  type: 'alarm-acknowledged'
+  alarm: Alarm
+}
+/** Scale speed of a described train over `block`, from entering it to entering the next block. */
+export interface SpeedChange {
+  type: 'speed'
+  block: string
+  description: string
+  lengthMm: number
+  seconds: number
+  kmh: number
+  mph: number
+  at: number
+}
+export interface ErrorChange {
+  type: 'error'
+  code: 'invalid-event' | 'unknown-id' | 'already-acknowledged'
+  /** Where in the event the problem is, e.g. "detector". */
+  path: string
+  message: string
+}
+export type Change =
+  | DetectorChange
+  | BlockChange
+  | IndicationChange
+  | TurnoutChange
+  | OverrideChange
+  | DescriptionChange
+  | AlarmChange
+  | AlarmAcknowledgedChange
+  | SpeedChange
+  | ErrorChange
+
+export interface ValidationError {
+  path: string
+  message: string
+}
+export type ValidationResult = { ok: true; layout: Layout } | { ok: false; errors: ValidationError[] }
