@@ -1,0 +1,42 @@
+#!/usr/bin/env bash
+# Shared shell helpers for Blockbell's start and test scripts.
+# Every function here is idempotent: running a script twice does no harm.
+
+log() { printf '\033[1;33m[blockbell]\033[0m %s\n' "$*"; }
+die() { printf '\033[1;31m[blockbell] %s\033[0m\n' "$*" >&2; exit 1; }
+
+as_root() { [ "$(id -u)" = 0 ]; }
+
+apt_updated=0
+apt_install() {
+  # apt_install <package>... : installs Debian packages (root only), once per run.
+  as_root || die "Missing Debian packages: $* (run as root, or install them yourself)."
+  if [ $apt_updated = 0 ]; then apt-get update -qq >/dev/null 2>&1 || true; apt_updated=1; fi
+  DEBIAN_FRONTEND=noninteractive apt-get install -y -qq "$@" >/dev/null || die "apt-get install $* failed"
+}
+
+ensure_node_modules() {
+  # Installs npm dependencies from the lock file when missing or older than the lock file.
+  if [ ! -f node_modules/.package-lock.json ] || [ package-lock.json -nt node_modules/.package-lock.json ]; then
+    log "Installing npm dependencies (npm ci)..."
+    npm ci --no-audit --no-fund || die "npm ci failed"
+  fi
+}
+
+ensure_chromium() {
+  command -v chromium >/dev/null 2>&1 || { log "Installing Debian's chromium for the browser tests..."; apt_install chromium fonts-dejavu-core; }
+}
+
+port_free() { ! (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }
+
+wait_for_http() {
+  # wait_for_http <url> <seconds>
+  local url=$1 n=$2
+  for _ in $(seq 1 $((n * 4))); do
+    curl -s -o /dev/null "$url" && return 0
+    sleep 0.25
+  done
+  return 1
+}
+
+random_secret() { head -c 48 /dev/urandom | base64 | tr -d '/+=\n' | head -c 48; }

@@ -1,0 +1,59 @@
+#!/usr/bin/env bash
+# Installs and starts everything Blockbell needs, with demo data: `npm start`.
+# PostgreSQL (a private cluster under .data/), migrations, demo data, the built server.
+# Ctrl-C stops every process this script started, PostgreSQL included.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+. scripts/lib/common.sh
+. scripts/lib/postgres.sh
+
+WEB_PORT=${PORT:-3000}
+DB_PORT=${BLOCKBELL_DB_PORT:-54329}
+DATA_DIR="$PWD/.data"
+mkdir -p "$DATA_DIR"
+
+ensure_node_modules
+port_free "$WEB_PORT" || die "Port $WEB_PORT is taken (another Blockbell?). Stop it, or start with PORT=<free port> npm start."
+
+SERVER_PID=
+cleanup() {
+  local rc=$?
+  trap - INT TERM EXIT
+  if [ -n "$SERVER_PID" ] && kill -0 "$SERVER_PID" 2>/dev/null; then
+    kill -TERM "$SERVER_PID" 2>/dev/null || true
+    for _ in $(seq 1 20); do kill -0 "$SERVER_PID" 2>/dev/null || break; sleep 0.2; done
+    kill -KILL "$SERVER_PID" 2>/dev/null || true
+    log "Server stopped"
+  fi
+  [ "${PG_STARTED:-0}" = 1 ] && pg_stop
+  exit "$rc"
+}
+trap 'exit 130' INT TERM
+trap cleanup EXIT
+
+pg_setup "$DATA_DIR/pg" "$DB_PORT"
+pg_create_db blockbell
+export BLOCKBELL_DB_HOST=127.0.0.1 BLOCKBELL_DB_PORT="$PG_PORT" BLOCKBELL_DB_NAME=blockbell \
+       BLOCKBELL_DB_USER="$PG_USER" BLOCKBELL_DB_PASSWORD="$PG_PASSWORD"
+
+if [ -z "${NUXT_SESSION_PASSWORD:-}" ]; then
+  [ -f "$DATA_DIR/session-secret" ] || { random_secret > "$DATA_DIR/session-secret"; chmod 600 "$DATA_DIR/session-secret"; }
+  NUXT_SESSION_PASSWORD=$(cat "$DATA_DIR/session-secret")
+  export NUXT_SESSION_PASSWORD
+fi
+
+./node_modules/.bin/tsx server/database/cli.ts up
+./node_modules/.bin/tsx server/database/cli.ts seed
+
+log "Building the app (nuxt build)..."
+./node_modules/.bin/nuxt build > "$DATA_DIR/build.log" 2>&1 || { tail -30 "$DATA_DIR/build.log"; die "nuxt build failed (full log: .data/build.log)"; }
+
+HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' &
+SERVER_PID=$!
+wait_for_http "http://127.0.0.1:$WEB_PORT/api/health" 60 || die "The server did not answer on port $WEB_PORT"
+
+printf '\n  Blockbell is running at http://127.0.0.1:%s\n\n' "$WEB_PORT"
+./node_modules/.bin/tsx server/database/cli.ts accounts
+printf '\n  Press Ctrl-C to stop everything (server and PostgreSQL).\n\n'
+wait "$SERVER_PID" || true
+SERVER_PID=

@@ -1,0 +1,58 @@
+#!/usr/bin/env bash
+# Installs what the tests need and runs every test: `npm test`.
+# Starts its own PostgreSQL (a throwaway cluster) and the built server, and tears both down at the end.
+# Ends with one summary line: "Blockbell tests: N passed, M failed".
+set -uo pipefail
+cd "$(dirname "$0")/.."
+. scripts/lib/common.sh
+. scripts/lib/postgres.sh
+
+ensure_node_modules
+ensure_chromium
+
+DB_PORT=${BLOCKBELL_TEST_DB_PORT:-54339}
+WEB_PORT=${BLOCKBELL_TEST_PORT:-3939}
+RUN_DIR=$(mktemp -d /var/tmp/blockbell-test.XXXXXX)
+chmod 755 "$RUN_DIR"
+SERVER_PID=
+cleanup() {
+  local rc=$?
+  trap - EXIT
+  if [ -n "$SERVER_PID" ]; then kill -TERM "$SERVER_PID" 2>/dev/null; wait "$SERVER_PID" 2>/dev/null; fi
+  pg_stop
+  rm -rf "$RUN_DIR"
+  exit "$rc"
+}
+trap cleanup EXIT
+trap 'exit 130' INT TERM
+
+port_free "$DB_PORT" || die "Port $DB_PORT is taken; set BLOCKBELL_TEST_DB_PORT to a free port."
+port_free "$WEB_PORT" || die "Port $WEB_PORT is taken; set BLOCKBELL_TEST_PORT to a free port."
+PG_EXTRA_OPTS="-c fsync=off -c synchronous_commit=off -c full_page_writes=off" pg_setup "$RUN_DIR/pg" "$DB_PORT"
+pg_create_db blockbell_e2e
+pg_create_db blockbell_db_tests
+
+export BLOCKBELL_DB_HOST=127.0.0.1 BLOCKBELL_DB_PORT="$PG_PORT" BLOCKBELL_DB_USER="$PG_USER" BLOCKBELL_DB_PASSWORD="$PG_PASSWORD"
+export BLOCKBELL_DB_TEST_NAME=blockbell_db_tests
+export NUXT_SESSION_PASSWORD=$(random_secret)
+export BLOCKBELL_TEST_URL="http://127.0.0.1:$WEB_PORT"
+export BLOCKBELL_TEST_DATA="$RUN_DIR"
+
+log "Building the app for the end-to-end tests..."
+./node_modules/.bin/nuxt build > "$RUN_DIR/build.log" 2>&1 || { tail -40 "$RUN_DIR/build.log"; die "nuxt build failed"; }
+
+BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts up || die "migrations failed"
+BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts seed || die "seed failed"
+BLOCKBELL_DB_NAME=blockbell_e2e HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' > "$RUN_DIR/server.log" 2>&1 &
+SERVER_PID=$!
+wait_for_http "$BLOCKBELL_TEST_URL/api/health" 60 || { tail -30 "$RUN_DIR/server.log"; die "the test server did not start"; }
+
+./node_modules/.bin/vitest run --reporter=default --reporter=json --outputFile.json="$RUN_DIR/results.json" "$@"
+status=$?
+if [ -f "$RUN_DIR/results.json" ]; then
+  node -e 'const r=require(process.argv[1]); console.log(`\nBlockbell tests: ${r.numPassedTests} passed, ${r.numFailedTests} failed, ${r.numPendingTests + r.numTodoTests} skipped (${r.numTotalTestSuites} suites)`)' "$RUN_DIR/results.json"
+else
+  echo "Blockbell tests: run did not finish (no results), failed"
+fi
+[ $status -ne 0 ] && { echo "--- last lines of the server log ---"; tail -20 "$RUN_DIR/server.log"; }
+exit $status

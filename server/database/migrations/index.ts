@@ -1,0 +1,9 @@
+import * as initial from './0001-initial'
+
+/**
+ * Every migration, in order. Listed by hand (not globbed) so the same list works under tsx and inside the
+ * Nitro bundle. To add one: create `NNNN-what-it-does.ts` exporting `up` and `down`, then add it here.
+ */
+export const migrations = [
+  { name: '0001-initial', ...initial },
+]

@@ -1,0 +1,126 @@
+import {
+  DataTypes, Model,
+  type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize,
+} from 'sequelize'
+import type { Role } from '../../shared/utils/roles'
+
+export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
+  declare id: CreationOptional<number>
+  declare email: string
+  declare name: string
+  declare role: Role
+  declare passwordHash: string
+  declare disabledAt: CreationOptional<Date | null>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class Layout extends Model<InferAttributes<Layout>, InferCreationAttributes<Layout>> {
+  declare id: CreationOptional<number>
+  declare slug: string
+  declare name: string
+  declare definition: unknown
+  declare version: CreationOptional<number>
+  declare createdAt: CreationOptional<Date>
+  declare updatedAt: CreationOptional<Date>
+}
+
+export class LayoutVersion extends Model<InferAttributes<LayoutVersion>, InferCreationAttributes<LayoutVersion>> {
+  declare id: CreationOptional<number>
+  declare layoutId: ForeignKey<Layout['id']>
+  declare version: number
+  declare definition: unknown
+  declare createdBy: ForeignKey<User['id']> | null
+  declare createdAt: CreationOptional<Date>
+}
+
+export class OperatingSession extends Model<InferAttributes<OperatingSession>, InferCreationAttributes<OperatingSession>> {
+  declare id: CreationOptional<number>
+  declare layoutId: ForeignKey<Layout['id']>
+  declare name: string
+  declare startedAt: Date
+  declare endedAt: CreationOptional<Date | null>
+  declare startedBy: ForeignKey<User['id']> | null
+  declare fastClockRatio: CreationOptional<number>
+  declare fastClockStart: CreationOptional<string | null>
+}
+
+export class JournalEvent extends Model<InferAttributes<JournalEvent>, InferCreationAttributes<JournalEvent>> {
+  declare id: CreationOptional<string>
+  declare layoutId: ForeignKey<Layout['id']>
+  declare sessionId: ForeignKey<OperatingSession['id']> | null
+  declare at: Date
+  declare type: string
+  declare subject: string | null
+  declare payload: unknown
+  declare userId: ForeignKey<User['id']> | null
+}
+
+export interface Models {
+  User: typeof User
+  Layout: typeof Layout
+  LayoutVersion: typeof LayoutVersion
+  OperatingSession: typeof OperatingSession
+  JournalEvent: typeof JournalEvent
+}
+
+const timestamps = { underscored: true, timestamps: true } as const
+
+/** Registers the models on a connection. Tables themselves come from the migrations in ./migrations. */
+export function defineModels(sequelize: Sequelize): Models {
+  User.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    email: { type: DataTypes.STRING(254), allowNull: false, unique: true },
+    name: { type: DataTypes.STRING(80), allowNull: false },
+    role: { type: DataTypes.STRING(16), allowNull: false },
+    passwordHash: { type: DataTypes.STRING(255), allowNull: false },
+    disabledAt: { type: DataTypes.DATE, allowNull: true },
+    createdAt: DataTypes.DATE,
+    updatedAt: DataTypes.DATE,
+  }, { sequelize, tableName: 'users', ...timestamps })
+
+  Layout.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    slug: { type: DataTypes.STRING(64), allowNull: false, unique: true },
+    name: { type: DataTypes.STRING(120), allowNull: false },
+    definition: { type: DataTypes.JSONB, allowNull: false },
+    version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+    createdAt: DataTypes.DATE,
+    updatedAt: DataTypes.DATE,
+  }, { sequelize, tableName: 'layouts', ...timestamps })
+
+  LayoutVersion.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    version: { type: DataTypes.INTEGER, allowNull: false },
+    definition: { type: DataTypes.JSONB, allowNull: false },
+    createdAt: DataTypes.DATE,
+  }, { sequelize, tableName: 'layout_versions', underscored: true, timestamps: true, updatedAt: false })
+
+  OperatingSession.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    name: { type: DataTypes.STRING(120), allowNull: false },
+    startedAt: { type: DataTypes.DATE, allowNull: false },
+    endedAt: { type: DataTypes.DATE, allowNull: true },
+    fastClockRatio: { type: DataTypes.REAL, allowNull: false, defaultValue: 1 },
+    fastClockStart: { type: DataTypes.STRING(5), allowNull: true },
+  }, { sequelize, tableName: 'operating_sessions', underscored: true, timestamps: false })
+
+  JournalEvent.init({
+    id: { type: DataTypes.BIGINT, primaryKey: true, autoIncrement: true },
+    at: { type: DataTypes.DATE, allowNull: false },
+    type: { type: DataTypes.STRING(48), allowNull: false },
+    subject: { type: DataTypes.STRING(64), allowNull: true },
+    payload: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
+  }, { sequelize, tableName: 'events', underscored: true, timestamps: false })
+
+  Layout.hasMany(LayoutVersion, { foreignKey: 'layoutId' })
+  LayoutVersion.belongsTo(Layout, { foreignKey: 'layoutId' })
+  LayoutVersion.belongsTo(User, { foreignKey: 'createdBy', as: 'author' })
+  OperatingSession.belongsTo(Layout, { foreignKey: 'layoutId' })
+  OperatingSession.belongsTo(User, { foreignKey: 'startedBy', as: 'starter' })
+  JournalEvent.belongsTo(Layout, { foreignKey: 'layoutId' })
+  JournalEvent.belongsTo(OperatingSession, { foreignKey: 'sessionId' })
+  JournalEvent.belongsTo(User, { foreignKey: 'userId' })
+
+  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent }
+}

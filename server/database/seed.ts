@@ -1,0 +1,31 @@
+import type { Database } from './connection'
+import { DEMO_ACCOUNTS } from './demo-accounts'
+import { hashPasswordOutsideNitro } from './password-hash'
+import demoLayout from '../../shared/layouts/demo-layout.json' with { type: 'json' }
+
+export const DEMO_LAYOUT_SLUG = 'wrenfold'
+
+/** Inserts the demo accounts and the demo layout when they are missing. Running it again changes nothing. */
+export async function seedDemoData({ sequelize, models }: Database): Promise<{ created: string[] }> {
+  const created: string[] = []
+  await sequelize.transaction(async (transaction) => {
+    for (const account of DEMO_ACCOUNTS) {
+      const existing = await models.User.findOne({ where: { email: account.email }, transaction })
+      if (existing) continue
+      await models.User.create({
+        email: account.email, name: account.name, role: account.role,
+        passwordHash: await hashPasswordOutsideNitro(account.password),
+      }, { transaction })
+      created.push(`user ${account.email}`)
+    }
+    const layout = await models.Layout.findOne({ where: { slug: DEMO_LAYOUT_SLUG }, transaction })
+    if (!layout) {
+      const row = await models.Layout.create({
+        slug: DEMO_LAYOUT_SLUG, name: demoLayout.name, definition: demoLayout, version: 1,
+      }, { transaction })
+      await models.LayoutVersion.create({ layoutId: row.id, version: 1, definition: demoLayout, createdBy: null }, { transaction })
+      created.push(`layout ${DEMO_LAYOUT_SLUG}`)
+    }
+  })
+  return { created }
+}

@@ -1,0 +1,95 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { QueryTypes } from 'sequelize'
+import { openDatabase, type Database } from '../../server/database/connection'
+import { databaseSettings } from '../../server/database/config'
+import { createMigrator } from '../../server/database/migrator'
+import { seedDemoData } from '../../server/database/seed'
+import { migrations } from '../../server/database/migrations'
+
+// Runs against the real PostgreSQL started by scripts/test.sh, in a database of its own.
+const settings = { ...databaseSettings(), database: process.env.BLOCKBELL_DB_TEST_NAME ?? 'blockbell_db_tests' }
+let db: Database
+
+async function tableNames(): Promise<string[]> {
+  const rows = await db.sequelize.query<{ name: string }>(
+    `SELECT tablename AS name FROM pg_tables WHERE schemaname = 'public' ORDER BY tablename`, { type: QueryTypes.SELECT })
+  return rows.map(r => r.name)
+}
+
+beforeAll(async () => {
+  db = openDatabase(settings)
+  await createMigrator(db.sequelize).down({ to: 0 })
+})
+afterAll(async () => { await db.sequelize.close() })
+
+describe('migrations', () => {
+  it('apply from an empty database and create every table', async () => {
+    const done = await createMigrator(db.sequelize).up()
+    expect(done.map(m => m.name)).toEqual(migrations.map(m => m.name))
+    expect(await tableNames()).toEqual(['events', 'layout_versions', 'layouts', 'migrations', 'operating_sessions', 'users'])
+  })
+
+  it('index the journal for time-range and per-session queries', async () => {
+    const rows = await db.sequelize.query<{ indexname: string, indexdef: string }>(
+      `SELECT indexname, indexdef FROM pg_indexes WHERE tablename = 'events'`, { type: QueryTypes.SELECT })
+    const defs = Object.fromEntries(rows.map(r => [r.indexname, r.indexdef]))
+    expect(defs.events_layout_time).toMatch(/\(layout_id, at, id\)/)
+    expect(defs.events_session).toMatch(/\(session_id, id\)/)
+  })
+
+  it('revert every step and apply again', async () => {
+    const migrator = createMigrator(db.sequelize)
+    await migrator.down({ to: 0 })
+    expect(await tableNames()).toEqual(['migrations'])
+    await migrator.up()
+    expect((await migrator.pending()).length).toBe(0)
+  })
+})
+
+describe('models on the migrated schema', () => {
+  it('store a user and refuse a role outside admin/signaller/viewer', async () => {
+    const user = await db.models.User.create({ email: 'model-test@fernhollow.example', name: 'Ivo Stane', role: 'viewer', passwordHash: 'x' })
+    expect(user.id).toBeGreaterThan(0)
+    await expect(db.models.User.create({ email: 'bad-role@fernhollow.example', name: 'Bad', role: 'driver' as never, passwordHash: 'x' }))
+      .rejects.toThrow(/users_role_check/)
+    await expect(db.models.User.create({ email: 'model-test@fernhollow.example', name: 'Twice', role: 'viewer', passwordHash: 'x' }))
+      .rejects.toThrow()
+  })
+
+  it('store a layout with its JSONB definition and a version history', async () => {
+    const layout = await db.models.Layout.create({ slug: 'bench-loop', name: 'Bench loop', definition: { schema: 1, blocks: [{ id: 'B1' }] } })
+    expect(layout.version).toBe(1)
+    await db.models.LayoutVersion.create({ layoutId: layout.id, version: 1, definition: layout.definition, createdBy: null })
+    await expect(db.models.LayoutVersion.create({ layoutId: layout.id, version: 1, definition: {}, createdBy: null })).rejects.toThrow()
+    const [row] = await db.sequelize.query<{ n: number }>(`SELECT jsonb_array_length(definition->'blocks') AS n FROM layouts WHERE id = ${layout.id}`, { type: QueryTypes.SELECT })
+    expect(row!.n).toBe(1)
+  })
+
+  it('journal events with a 64-bit id, payload and session, in order', async () => {
+    const layout = await db.models.Layout.create({ slug: 'journal-test', name: 'Journal test', definition: {} })
+    const session = await db.models.OperatingSession.create({ layoutId: layout.id, name: 'Evening running', startedAt: new Date(), startedBy: null })
+    const at = new Date('2026-03-14T19:00:00Z')
+    await db.models.JournalEvent.bulkCreate([1, 2, 3].map(n => ({
+      layoutId: layout.id, sessionId: session.id, at: new Date(at.getTime() + n), type: 'detector', subject: `D0${n}`, payload: { occupied: n % 2 === 1 }, userId: null,
+    })))
+    const rows = await db.models.JournalEvent.findAll({ where: { sessionId: session.id }, order: [['id', 'ASC']] })
+    expect(rows.map(r => r.subject)).toEqual(['D01', 'D02', 'D03'])
+    expect(typeof rows[0]!.id).toBe('string') // BIGINT comes back as a string: no precision lost past 2^53
+    expect(rows[1]!.payload).toEqual({ occupied: false })
+  })
+})
+
+describe('demo data', () => {
+  it('is added once; running the seed again changes nothing', async () => {
+    const first = await seedDemoData(db)
+    expect(first.created).toContain('layout wrenfold')
+    expect(first.created.filter(c => c.startsWith('user ')).length).toBe(4)
+    const second = await seedDemoData(db)
+    expect(second.created).toEqual([])
+    expect(await db.models.Layout.count({ where: { slug: 'wrenfold' } })).toBe(1)
+    expect(await db.models.LayoutVersion.count()).toBeGreaterThanOrEqual(1)
+    const admin = await db.models.User.findOne({ where: { email: 'admin@fernhollow.example' } })
+    expect(admin!.role).toBe('admin')
+    expect(admin!.passwordHash).toMatch(/^\$scrypt\$/)
+  })
+})

@@ -1,0 +1,73 @@
+import { readdirSync } from 'node:fs'
+import { join, relative } from 'node:path'
+import { beforeAll, describe, expect, it } from 'vitest'
+import { setup } from '@nuxt/test-utils/e2e'
+import { BASE_URL, SessionClient, signedIn } from '../support/http-client'
+
+await setup({ host: BASE_URL })
+
+type Who = 'anonymous' | 'viewer' | 'signaller' | 'admin'
+interface RouteCase { file: string, method: string, path: string, body?: unknown, expect: Record<Who, number> }
+
+// Every API route x every role, signed out included. Bodies are chosen so nothing changes: a route that lets
+// the caller through answers 400 (invalid body) or 404 (unknown id), one that does not answers 401 or 403.
+const ROUTES: RouteCase[] = [
+  { file: 'health.get.ts', method: 'GET', path: '/api/health', expect: { anonymous: 200, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'auth/sign-in.post.ts', method: 'POST', path: '/api/auth/sign-in', body: {}, expect: { anonymous: 400, viewer: 400, signaller: 400, admin: 400 } },
+  { file: 'auth/sign-out.post.ts', method: 'POST', path: '/api/auth/sign-out', expect: { anonymous: 200, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'auth/me.get.ts', method: 'GET', path: '/api/auth/me', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'auth/password.post.ts', method: 'POST', path: '/api/auth/password', body: {}, expect: { anonymous: 401, viewer: 400, signaller: 400, admin: 400 } },
+  { file: 'users/index.get.ts', method: 'GET', path: '/api/users', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
+  { file: 'users/index.post.ts', method: 'POST', path: '/api/users', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'users/[id].patch.ts', method: 'PATCH', path: '/api/users/999999', body: { name: 'Nobody' }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'layouts/index.get.ts', method: 'GET', path: '/api/layouts', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'layouts/[id].get.ts', method: 'GET', path: '/api/layouts/999999', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+]
+
+function apiRouteFiles(dir: string): string[] {
+  return readdirSync(dir, { withFileTypes: true }).flatMap(entry =>
+    entry.isDirectory() ? apiRouteFiles(join(dir, entry.name)) : [join(dir, entry.name)])
+}
+
+describe('role matrix', () => {
+  const clients = {} as Record<Who, SessionClient>
+  beforeAll(async () => {
+    clients.anonymous = new SessionClient()
+    clients.viewer = await signedIn('viewer')
+    clients.signaller = await signedIn('signaller')
+    clients.admin = await signedIn('admin')
+  })
+
+  it('covers every file under server/api', () => {
+    const root = join(process.cwd(), 'server/api')
+    const files = apiRouteFiles(root).map(f => relative(root, f)).sort()
+    expect(files).toEqual(ROUTES.map(r => r.file).sort())
+  })
+
+  const rows = ROUTES.flatMap(route => (Object.keys(route.expect) as Who[])
+    .filter(who => !route.path.includes('sign-out') || who === 'anonymous')
+    .map(who => ({ ...route, who, status: route.expect[who] })))
+
+  it.each(rows)('$method $path as $who -> $status', async ({ method, path, body, who, status }) => {
+    const reply = await clients[who].request(method, path, body)
+    expect(reply.status, JSON.stringify(reply.body)).toBe(status)
+  })
+
+  it('sign-out ends the session of every role', async () => {
+    for (const role of ['viewer', 'signaller', 'admin'] as const) {
+      const client = await signedIn(role)
+      expect((await client.post('/api/auth/sign-out')).status).toBe(200)
+      expect((await client.get('/api/auth/me')).status).toBe(401)
+    }
+  })
+
+  it('a real layout id answers 200 to every signed-in role', async () => {
+    const list = await clients.viewer.get('/api/layouts')
+    const id = list.body.layouts[0].id
+    for (const who of ['viewer', 'signaller', 'admin'] as const) {
+      const reply = await clients[who].get(`/api/layouts/${id}`)
+      expect(reply.status).toBe(200)
+      expect(reply.body.layout.definition.blocks.length).toBeGreaterThan(0)
+    }
+  })
+})
