@@ -1,0 +1,97 @@
+import { z } from 'zod'
+import { ItemId } from '../schemas/layout'
+import type { Layout } from '../schemas/layout'
+import type { Alarm, Change, Indication, OverrideMode, TurnoutPosition } from '../signalling'
+import type { Role } from '../utils/roles'
+
+/**
+ * Blockbell's live protocol between a panel and the server, over one WebSocket at `/live`.
+ * Every message is a JSON object with a `type`.
+ *
+ * Panel -> server: `subscribe` (one layout per connection), `resync`, `command`, `ping`.
+ * Server -> panel: `welcome` on connect, `snapshot` after subscribe or resync, then `delta`s numbered by a
+ * per-layout `seq` (a panel that sees a gap sends `resync`), `command-result` for each command, `error` for a
+ * message it could not accept (the connection stays up), `pong`.
+ */
+
+export const MAX_MESSAGE_BYTES = 16 * 1024
+
+const CommandId = z.string().min(1, 'id is required').max(40, 'id is at most 40 characters')
+const Revision = z.number({ error: 'revision is a number' }).int().nonnegative()
+
+export const LiveCommand = z.discriminatedUnion('action', [
+  z.object({ action: z.literal('take-area'), area: ItemId }),
+  z.object({ action: z.literal('release-area'), area: ItemId }),
+  z.object({ action: z.literal('force-release'), area: ItemId }),
+  z.object({ action: z.literal('hand-over'), area: ItemId, to: z.number().int().positive() }),
+  z.object({ action: z.literal('set-override'), signal: ItemId, mode: z.enum(['hold', 'auto', 'clear']), revision: Revision }),
+  z.object({ action: z.literal('set-turnout'), turnout: ItemId, position: z.enum(['normal', 'reverse']), revision: Revision }),
+  z.object({ action: z.literal('interpose'), block: ItemId, description: z.string().trim().max(16, 'a description is at most 16 characters') }),
+  z.object({ action: z.literal('acknowledge'), alarm: z.string().min(1).max(40) }),
+], { error: 'action is one of take-area, release-area, force-release, hand-over, set-override, set-turnout, interpose, acknowledge' })
+export type LiveCommand = z.infer<typeof LiveCommand>
+
+export const ClientMessage = z.discriminatedUnion('type', [
+  z.object({ type: z.literal('subscribe'), layout: z.string().min(1).max(64) }),
+  z.object({ type: z.literal('resync') }),
+  z.object({ type: z.literal('command'), id: CommandId, command: LiveCommand }),
+  z.object({ type: z.literal('ping') }),
+], { error: 'type is one of subscribe, resync, command, ping' })
+export type ClientMessage = z.infer<typeof ClientMessage>
+
+export interface LiveUser { id: number, name: string, role: Role }
+
+/** Who holds an area of control (null: nobody). */
+export type AreaHolders = Record<string, LiveUser | null>
+
+/** A controller (detector or signal decoder board) as its MQTT status topic reports it. */
+export interface DeviceStatus { online: boolean, at: number }
+
+/** The running operating session, when there is one, with its fast clock. */
+export interface LiveSession {
+  id: number
+  name: string
+  startedAt: number
+  /** Fast clock: model minutes per real minute, and the model time of day at `startedAt` ("HH:MM"). */
+  fastClockRatio: number
+  fastClockStart: string | null
+}
+
+/** One line of the panel's feed of latest events. */
+export interface FeedEntry { at: number, text: string, tone: 'info' | 'warn' | 'alarm' }
+
+/** Changes the live runtime adds to the engine's own. */
+export type LiveChange =
+  | Change
+  | { type: 'areas', areas: AreaHolders }
+  | { type: 'operators', operators: LiveUser[] }
+  | { type: 'device', device: string, status: DeviceStatus }
+  | { type: 'dropout', block: string, detector: string, at: number }
+  | { type: 'feed', entry: FeedEntry }
+  | { type: 'session', session: LiveSession | null }
+
+export interface LiveState {
+  occupied: Record<string, boolean>
+  turnouts: Record<string, TurnoutPosition>
+  overrides: Record<string, OverrideMode>
+  descriptions: Record<string, string>
+  alarms: Alarm[]
+  indications: Record<string, Indication>
+  signalRevisions: Record<string, number>
+  turnoutRevisions: Record<string, number>
+  /** Block -> epoch ms of the last detector dropout (a clear followed by occupied within the debounce). */
+  dropouts: Record<string, number>
+}
+
+export type ServerMessage =
+  | { type: 'welcome', user: LiveUser }
+  | {
+    type: 'snapshot', layout: string, seq: number, definition: Layout, state: LiveState,
+    areas: AreaHolders, operators: LiveUser[], devices: Record<string, DeviceStatus>,
+    session: LiveSession | null, feed: FeedEntry[]
+  }
+  | { type: 'delta', layout: string, seq: number, changes: LiveChange[] }
+  | { type: 'command-result', id: string, ok: true }
+  | { type: 'command-result', id: string, ok: false, reason: string }
+  | { type: 'error', message: string }
+  | { type: 'pong' }
