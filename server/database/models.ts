@@ -54,6 +54,17 @@ export class JournalEvent extends Model<InferAttributes<JournalEvent>, InferCrea
   declare subject: string | null
   declare payload: unknown
   declare userId: ForeignKey<User['id']> | null
+  declare entryKey: CreationOptional<string | null>
+}
+
+export class Device extends Model<InferAttributes<Device>, InferCreationAttributes<Device>> {
+  declare id: CreationOptional<number>
+  declare username: string
+  declare name: string
+  declare layoutId: ForeignKey<Layout['id']> | null
+  declare passwordHash: string
+  declare disabledAt: CreationOptional<Date | null>
+  declare createdAt: CreationOptional<Date>
 }
 
 export interface Models {
@@ -62,6 +73,7 @@ export interface Models {
   LayoutVersion: typeof LayoutVersion
   OperatingSession: typeof OperatingSession
   JournalEvent: typeof JournalEvent
+  Device: typeof Device
 }
 
 const timestamps = { underscored: true, timestamps: true } as const
@@ -111,7 +123,17 @@ export function defineModels(sequelize: Sequelize): Models {
     type: { type: DataTypes.STRING(48), allowNull: false },
     subject: { type: DataTypes.STRING(64), allowNull: true },
     payload: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
+    entryKey: { type: DataTypes.STRING(64), allowNull: true },
   }, { sequelize, tableName: 'events', underscored: true, timestamps: false })
+
+  Device.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    username: { type: DataTypes.STRING(64), allowNull: false, unique: true },
+    name: { type: DataTypes.STRING(80), allowNull: false },
+    passwordHash: { type: DataTypes.STRING(255), allowNull: false },
+    disabledAt: { type: DataTypes.DATE, allowNull: true },
+    createdAt: DataTypes.DATE,
+  }, { sequelize, tableName: 'devices', underscored: true, timestamps: true, updatedAt: false })
 
   Layout.hasMany(LayoutVersion, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(Layout, { foreignKey: 'layoutId' })
@@ -121,6 +143,7 @@ export function defineModels(sequelize: Sequelize): Models {
   JournalEvent.belongsTo(Layout, { foreignKey: 'layoutId' })
   JournalEvent.belongsTo(OperatingSession, { foreignKey: 'sessionId' })
   JournalEvent.belongsTo(User, { foreignKey: 'userId' })
+  Device.belongsTo(Layout, { foreignKey: 'layoutId' })
 
-  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent }
+  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device }
 }

@@ -5,6 +5,10 @@ import demoLayout from '../../shared/layouts/demo-layout.json' with { type: 'jso
 
 export const DEMO_LAYOUT_SLUG = 'wrenfold'
 
+/** The fake layout's MQTT sign-in (a device like any other; its password can be changed by environment). */
+export const FAKE_LAYOUT_DEVICE = { username: 'fake-layout', name: 'Fake layout (simulated controllers)' }
+export const fakeLayoutPassword = () => process.env.BLOCKBELL_FAKE_MQTT_PASSWORD || 'fake-layout-demo'
+
 /** Inserts the demo accounts and the demo layout when they are missing. Running it again changes nothing. */
 export async function seedDemoData({ sequelize, models }: Database): Promise<{ created: string[] }> {
   const created: string[] = []
@@ -25,6 +29,11 @@ export async function seedDemoData({ sequelize, models }: Database): Promise<{ c
       }, { transaction })
       await models.LayoutVersion.create({ layoutId: row.id, version: 1, definition: demoLayout, createdBy: null }, { transaction })
       created.push(`layout ${DEMO_LAYOUT_SLUG}`)
+    }
+    const device = await models.Device.findOne({ where: { username: FAKE_LAYOUT_DEVICE.username }, transaction })
+    if (!device) {
+      await models.Device.create({ ...FAKE_LAYOUT_DEVICE, layoutId: null, passwordHash: await hashPasswordOutsideNitro(fakeLayoutPassword()) }, { transaction })
+      created.push(`device ${FAKE_LAYOUT_DEVICE.username}`)
     }
   })
   return { created }

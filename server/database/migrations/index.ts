@@ -1,4 +1,5 @@
 import * as initial from './0001-initial'
+import * as devicesAndEventKeys from './0002-devices-and-event-keys'
 
 /**
  * Every migration, in order. Listed by hand (not globbed) so the same list works under tsx and inside the
@@ -6,4 +7,5 @@ import * as initial from './0001-initial'
  */
 export const migrations = [
   { name: '0001-initial', ...initial },
+  { name: '0002-devices-and-event-keys', ...devicesAndEventKeys },
 ]
