@@ -1,7 +1,7 @@
 // Live protocol messages for panel tests, made by running the real signalling engine over the demo layout
 // (Wrenfold Junction, an invented scenario). People are the invented Fernhollow Light Railway demo accounts.
 import demo from '../../shared/layouts/demo-layout.json'
-import { applyEvent, initialState, validateLayout } from '../../shared/signalling'
+import { applyEvent, computeIndications, initialState, validateLayout } from '../../shared/signalling'
 import type { Change, Layout, LayoutEvent, LayoutState } from '../../shared/signalling'
 import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveSession, LiveState, LiveUser } from '../../shared/live/protocol'
 import type { DeltaMessage, SnapshotMessage } from '../../shared/live/apply'
@@ -22,11 +22,11 @@ export function detectorOf(layout: Layout, block: string): string {
   return layout.blocks.find(b => b.id === block)!.detectors[0]!
 }
 
-/** The engine state as the protocol's LiveState carries it. */
-export function toLiveState(s: LayoutState, dropouts: Record<string, number> = {}): LiveState {
+/** The engine state as the protocol's LiveState carries it, with the indications the engine computes for it. */
+export function toLiveState(layout: Layout, s: LayoutState, dropouts: Record<string, number> = {}): LiveState {
   return structuredClone({
     occupied: s.occupied, turnouts: s.turnouts, overrides: s.overrides, descriptions: s.descriptions, alarms: s.alarms,
-    indications: s.indications, signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts,
+    indications: computeIndications(layout, s), signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts,
   })
 }
 
@@ -53,10 +53,14 @@ export class DemoRun {
 
   snapshot(): SnapshotMessage {
     return {
-      type: 'snapshot', layout: SLUG, seq: this.seq, definition: this.layout, state: toLiveState(this.state),
+      type: 'snapshot', layout: SLUG, seq: this.seq, definition: this.layout, state: this.liveState(),
       areas: structuredClone(this.areas), operators: structuredClone(this.operators), devices: structuredClone(this.devices),
       session: this.session, feed: structuredClone(this.feed),
     }
+  }
+
+  liveState(): LiveState {
+    return toLiveState(this.layout, this.state)
   }
 
   /** Applies events to the engine and returns one delta with all their changes. */

@@ -2,7 +2,7 @@
 // engine's own state after the same events (shared/signalling, built to DESIGN.md "Signalling rules").
 import { describe, expect, it } from 'vitest'
 import { FEED_LIMIT, applyDelta, applySnapshot, emptyView } from '../../../shared/live/apply'
-import { DemoRun, SLUG, TAM, spadRun, toLiveState } from '../../support/live-fixtures'
+import { DemoRun, SLUG, TAM, spadRun } from '../../support/live-fixtures'
 
 describe('applySnapshot', () => {
   it('shows the engine state the snapshot carries', () => {
@@ -13,7 +13,7 @@ describe('applySnapshot', () => {
     applySnapshot(view, run.snapshot())
     expect(view.layout).toBe(SLUG)
     expect(view.seq).toBe(2)
-    expect(view.state).toEqual(toLiveState(run.state))
+    expect(view.state).toEqual(run.liveState())
     expect(view.state.descriptions).toEqual({ UM2: '2T33' })
     expect(view.definition?.name).toBe('Wrenfold Junction')
   })
@@ -75,12 +75,12 @@ describe('applyDelta', () => {
       expect(view.seq).toBe(d.seq)
     }
     expect(view.state.occupied).toEqual(scripted.state.occupied)
-    expect(view.state.indications).toEqual(scripted.state.indications)
+    expect(view.state.indications).toEqual(scripted.liveState().indications)
     expect(view.state.descriptions).toEqual({ UM2: '1F42', UM3: '1F42' })
     expect(view.state.overrides.SU2).toBe('hold')
     expect(view.state.signalRevisions.SU2).toBe(1)
     expect(view.state.alarms).toEqual(scripted.state.alarms)
-    expect(view.state).toEqual(toLiveState(scripted.state))
+    expect(view.state).toEqual(scripted.liveState())
   })
 
   it('detects a gap and applies nothing of the delta after it', () => {
@@ -124,7 +124,7 @@ describe('applyDelta', () => {
     expect(applyDelta(view, run.interpose('FY1', '1U29'))).toBe('gap')
     applySnapshot(view, run.snapshot())
     expect(applyDelta(view, run.occupy('UM1'))).toBe('applied')
-    expect(view.state).toEqual(toLiveState(run.state))
+    expect(view.state).toEqual(run.liveState())
     expect(view.state.descriptions.UM1).toBe('1U29')
   })
 

@@ -1,0 +1,56 @@
+import type { Layout } from '../schemas/layout'
+import type { LiveCommand } from './protocol'
+
+/** A command as the panel tracks it: sent (pending), then done or refused by the server's command-result. */
+export type CommandStatus = 'pending' | 'done' | 'refused' | 'no-answer'
+
+export interface CommandRecord {
+  id: string
+  command: LiveCommand
+  /** What the command is about, e.g. "signal:SU1", so a control can show its own command's state. */
+  target: string
+  /** Plain words for the command, e.g. "Hold Quillbury up home". */
+  label: string
+  status: CommandStatus
+  reason: string | null
+  at: number
+}
+
+/** How long a command may wait for its command-result before the panel says there was no answer. */
+export const COMMAND_TIMEOUT_MS = 10_000
+export const NO_ANSWER_LOST = 'The connection dropped before the server answered: look at the diagram to see whether it took effect.'
+export const NO_ANSWER_TIMEOUT = 'No answer from the server within 10 seconds: look at the diagram to see whether it took effect.'
+export const NOT_CONNECTED = 'Not connected: the command was not sent. Wait until the panel is live again.'
+
+let counter = 0
+
+/** A client id for a command: unique within this page, at most 40 characters (the protocol's limit). */
+export function newCommandId(now = Date.now()): string {
+  counter = (counter + 1) % 1_000_000
+  return `p${now.toString(36)}-${counter.toString(36)}-${Math.random().toString(36).slice(2, 8)}`
+}
+
+export function commandTarget(c: LiveCommand): string {
+  switch (c.action) {
+    case 'take-area': case 'release-area': case 'force-release': case 'hand-over': return `area:${c.area}`
+    case 'set-override': return `signal:${c.signal}`
+    case 'set-turnout': return `turnout:${c.turnout}`
+    case 'interpose': return `block:${c.block}`
+    case 'acknowledge': return `alarm:${c.alarm}`
+  }
+}
+
+const nameOf = (list: { id: string, name: string }[] | undefined, id: string) => list?.find(x => x.id === id)?.name ?? id
+
+export function commandLabel(c: LiveCommand, def: Layout | null, people: { id: number, name: string }[] = []): string {
+  switch (c.action) {
+    case 'take-area': return `Take ${nameOf(def?.areas, c.area)}`
+    case 'release-area': return `Release ${nameOf(def?.areas, c.area)}`
+    case 'force-release': return `Force-release ${nameOf(def?.areas, c.area)}`
+    case 'hand-over': return `Hand ${nameOf(def?.areas, c.area)} over to ${people.find(p => p.id === c.to)?.name ?? `person ${c.to}`}`
+    case 'set-override': return `${{ hold: 'Hold', auto: 'Auto', clear: 'Clear' }[c.mode]} ${nameOf(def?.signals, c.signal)}`
+    case 'set-turnout': return `Throw ${c.turnout} to ${c.position}`
+    case 'interpose': return c.description ? `Interpose ${c.description} in ${nameOf(def?.blocks, c.block)}` : `Clear the berth in ${nameOf(def?.blocks, c.block)}`
+    case 'acknowledge': return 'Acknowledge the alarm'
+  }
+}

@@ -1,0 +1,140 @@
+// The panel's link to /live against a real WebSocket server (the `ws` package) that speaks the protocol of
+// shared/live/protocol.ts with states made by the real engine. Short delays keep the run quick.
+import { afterEach, describe, expect, it } from 'vitest'
+import WebSocket, { WebSocketServer } from 'ws'
+import type { AddressInfo } from 'node:net'
+import { emptyView } from '../../../shared/live/apply'
+import { LiveConnection, type ConnectionState, type SocketLike } from '../../../shared/live/connection'
+import type { ClientMessage, ServerMessage } from '../../../shared/live/protocol'
+import { DemoRun, SLUG, TAM } from '../../support/live-fixtures'
+
+interface TestServer { wss: WebSocketServer, url: string, received: ClientMessage[], clients: Set<WebSocket>, close: () => Promise<void> }
+
+/** A /live server that answers subscribe and resync with the run's snapshot; `silent` accepts and says nothing. */
+async function startServer(run: DemoRun, opts: { port?: number, silent?: boolean } = {}): Promise<TestServer> {
+  const wss = new WebSocketServer({ host: '127.0.0.1', port: opts.port ?? 0 })
+  await new Promise(resolve => wss.once('listening', resolve))
+  const received: ClientMessage[] = []
+  const clients = new Set<WebSocket>()
+  wss.on('connection', (ws) => {
+    clients.add(ws)
+    ws.on('close', () => clients.delete(ws))
+    if (opts.silent) return
+    ws.send(JSON.stringify({ type: 'welcome', user: TAM } satisfies ServerMessage))
+    ws.on('message', (data) => {
+      const msg = JSON.parse(String(data)) as ClientMessage
+      received.push(msg)
+      if (msg.type === 'subscribe' || msg.type === 'resync') ws.send(JSON.stringify(run.snapshot()))
+      if (msg.type === 'command') ws.send(JSON.stringify({ type: 'command-result', id: msg.id, ok: false, reason: 'stale revision' }))
+    })
+  })
+  const url = `ws://127.0.0.1:${(wss.address() as AddressInfo).port}/live`
+  const close = () => new Promise<void>((resolve) => {
+    for (const c of clients) c.terminate()
+    wss.close(() => resolve())
+  })
+  return { wss, url, received, clients, close }
+}
+
+const broadcast = (s: TestServer, msg: ServerMessage) => { for (const c of s.clients) c.send(JSON.stringify(msg)) }
+
+const open: LiveConnection[] = []
+const servers: TestServer[] = []
+afterEach(async () => {
+  for (const c of open.splice(0)) c.stop()
+  for (const s of servers.splice(0)) await s.close()
+})
+
+function connect(url: string, extra: Partial<ConstructorParameters<typeof LiveConnection>[0]> = {}) {
+  const view = emptyView()
+  const states: ConnectionState[] = []
+  const messages: ServerMessage[] = []
+  const link = new LiveConnection({
+    url, layout: SLUG, view, createSocket: u => new WebSocket(u) as unknown as SocketLike,
+    onState: s => states.push(s), onMessage: m => messages.push(m),
+    backoffMs: [20, 40, 80], offlineAfter: 2, ...extra,
+  })
+  open.push(link)
+  link.start()
+  return { link, view, states, messages }
+}
+
+describe('LiveConnection', () => {
+  it('subscribes to the layout and is live once the snapshot is in', async () => {
+    const run = new DemoRun()
+    run.occupy('UM2')
+    const server = await startServer(run)
+    servers.push(server)
+    const { link, view, states, messages } = connect(server.url)
+    await expect.poll(() => link.state).toBe('live')
+    expect(states[0]).toBe('connecting')
+    expect(server.received[0]).toEqual({ type: 'subscribe', layout: SLUG })
+    expect(view.state).toEqual(run.liveState())
+    expect(messages).toContainEqual({ type: 'welcome', user: TAM })
+  })
+
+  it('follows deltas, and on a gap sends resync and catches up from the new snapshot', async () => {
+    const run = new DemoRun()
+    const server = await startServer(run)
+    servers.push(server)
+    const { link, view } = connect(server.url)
+    await expect.poll(() => link.state).toBe('live')
+    broadcast(server, run.occupy('UM1'))
+    await expect.poll(() => view.state.occupied.UM1).toBe(true)
+    run.interpose('UM1', '2J01') // never sent: the panel misses seq 2
+    broadcast(server, run.occupy('UM2'))
+    await expect.poll(() => server.received.some(m => m.type === 'resync')).toBe(true)
+    await expect.poll(() => view.seq).toBe(run.seq)
+    expect(view.state).toEqual(run.liveState())
+    expect(view.state.descriptions.UM2).toBe('2J01')
+  })
+
+  it('reconnects after the link drops and takes a fresh snapshot with what it missed', async () => {
+    const run = new DemoRun()
+    const server = await startServer(run)
+    servers.push(server)
+    const { link, view, states } = connect(server.url)
+    await expect.poll(() => link.state).toBe('live')
+    for (const c of server.clients) c.terminate()
+    run.occupy('DM1') // happens while the panel is away
+    await expect.poll(() => states.includes('reconnecting')).toBe(true)
+    await expect.poll(() => link.state).toBe('live')
+    expect(server.received.filter(m => m.type === 'subscribe')).toHaveLength(2)
+    expect(view.state.occupied.DM1).toBe(true)
+  })
+
+  it('reads offline after repeated failures and comes back live when the server returns', async () => {
+    const run = new DemoRun()
+    const first = await startServer(run)
+    const port = (first.wss.address() as AddressInfo).port
+    const { link } = connect(first.url)
+    await expect.poll(() => link.state).toBe('live')
+    await first.close()
+    await expect.poll(() => link.state, { timeout: 3000 }).toBe('offline')
+    servers.push(await startServer(run, { port }))
+    await expect.poll(() => link.state, { timeout: 3000 }).toBe('live')
+  })
+
+  it('replaces a socket that has gone silent', async () => {
+    const server = await startServer(new DemoRun(), { silent: true })
+    servers.push(server)
+    let sockets = 0
+    connect(server.url, {
+      silenceLimitMs: 60,
+      createSocket: (u) => { sockets += 1; return new WebSocket(u) as unknown as SocketLike },
+    })
+    await expect.poll(() => sockets, { timeout: 3000 }).toBeGreaterThanOrEqual(3)
+  })
+
+  it('passes command results on and sends nothing once stopped', async () => {
+    const server = await startServer(new DemoRun())
+    servers.push(server)
+    const { link, messages } = connect(server.url)
+    await expect.poll(() => link.state).toBe('live')
+    expect(link.send({ type: 'command', id: 'c1', command: { action: 'take-area', area: 'main' } })).toBe(true)
+    await expect.poll(() => messages.find(m => m.type === 'command-result')).toEqual({ type: 'command-result', id: 'c1', ok: false, reason: 'stale revision' })
+    link.stop()
+    expect(link.state).toBe('idle')
+    expect(link.send({ type: 'ping' })).toBe(false)
+  })
+})
