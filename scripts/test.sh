@@ -12,6 +12,7 @@ ensure_chromium
 
 DB_PORT=${BLOCKBELL_TEST_DB_PORT:-54339}
 WEB_PORT=${BLOCKBELL_TEST_PORT:-3939}
+MQTT_TEST_PORT=${BLOCKBELL_TEST_MQTT_PORT:-18839}
 RUN_DIR=$(mktemp -d /var/tmp/blockbell-test.XXXXXX)
 chmod 755 "$RUN_DIR"
 SERVER_PID=
@@ -28,6 +29,7 @@ trap 'exit 130' INT TERM
 
 port_free "$DB_PORT" || die "Port $DB_PORT is taken; set BLOCKBELL_TEST_DB_PORT to a free port."
 port_free "$WEB_PORT" || die "Port $WEB_PORT is taken; set BLOCKBELL_TEST_PORT to a free port."
+port_free "$MQTT_TEST_PORT" || die "Port $MQTT_TEST_PORT is taken; set BLOCKBELL_TEST_MQTT_PORT to a free port."
 PG_EXTRA_OPTS="-c fsync=off -c synchronous_commit=off -c full_page_writes=off" pg_setup "$RUN_DIR/pg" "$DB_PORT"
 pg_create_db blockbell_e2e
 pg_create_db blockbell_db_tests
@@ -37,13 +39,14 @@ export BLOCKBELL_DB_TEST_NAME=blockbell_db_tests
 export NUXT_SESSION_PASSWORD=$(random_secret)
 export BLOCKBELL_TEST_URL="http://127.0.0.1:$WEB_PORT"
 export BLOCKBELL_TEST_DATA="$RUN_DIR"
+export BLOCKBELL_TEST_MQTT_URL="mqtt://127.0.0.1:$MQTT_TEST_PORT"
 
 log "Building the app for the end-to-end tests..."
 ./node_modules/.bin/nuxt build > "$RUN_DIR/build.log" 2>&1 || { tail -40 "$RUN_DIR/build.log"; die "nuxt build failed"; }
 
 BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts up || die "migrations failed"
 BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts seed || die "seed failed"
-BLOCKBELL_DB_NAME=blockbell_e2e HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' > "$RUN_DIR/server.log" 2>&1 &
+BLOCKBELL_DB_NAME=blockbell_e2e MQTT_PORT="$MQTT_TEST_PORT" BLOCKBELL_DATA_DIR="$RUN_DIR/data" HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' > "$RUN_DIR/server.log" 2>&1 &
 SERVER_PID=$!
 wait_for_http "$BLOCKBELL_TEST_URL/api/health" 60 || { tail -30 "$RUN_DIR/server.log"; die "the test server did not start"; }
 

@@ -1,0 +1,15 @@
+import { LiveService, liveSettings } from './live/service'
+
+let service: LiveService | undefined
+
+/** The process's live service (broker, bridge, layout runtimes, panel hub); started by the live plugin. */
+export function useLive(): LiveService {
+  service ??= new LiveService(useDatabase(), liveSettings())
+  return service
+}
+
+export async function closeLive(): Promise<void> {
+  const running = service
+  service = undefined
+  await running?.close()
+}

@@ -1,0 +1,76 @@
+import type { Peer } from 'crossws'
+import { ClientMessage, MAX_MESSAGE_BYTES, type LiveUser, type ServerMessage } from '../../../shared/live/protocol'
+import { describeIssues } from '../validation'
+import type { LiveService } from './service'
+
+const RATE_PER_SECOND = 20
+const BURST = 40
+
+/** One panel's WebSocket: its user, its layout, and a token bucket against message floods. */
+export class PanelConnection {
+  private slug: string | null = null
+  private tokens = BURST
+  private refilledAt = Date.now()
+
+  constructor(readonly peer: Peer, public user: LiveUser, private readonly live: LiveService, private readonly recheckUser: () => Promise<LiveUser | null>) {}
+
+  send(message: ServerMessage): void { this.peer.send(JSON.stringify(message)) }
+
+  private allow(): boolean {
+    const now = Date.now()
+    this.tokens = Math.min(BURST, this.tokens + ((now - this.refilledAt) / 1000) * RATE_PER_SECOND)
+    this.refilledAt = now
+    if (this.tokens < 1) return false
+    this.tokens -= 1
+    return true
+  }
+
+  async receive(raw: string): Promise<void> {
+    if (!this.allow()) return this.send({ type: 'error', message: `Too many messages: at most ${RATE_PER_SECOND} a second.` })
+    if (Buffer.byteLength(raw) > MAX_MESSAGE_BYTES) return this.send({ type: 'error', message: `Message too large: at most ${MAX_MESSAGE_BYTES} bytes.` })
+    let data: unknown
+    try { data = JSON.parse(raw) } catch { return this.send({ type: 'error', message: 'Message is not valid JSON.' }) }
+    const parsed = ClientMessage.safeParse(data)
+    if (!parsed.success) return this.send({ type: 'error', message: describeIssues(parsed.error).message })
+    const message = parsed.data
+    switch (message.type) {
+      case 'ping': return this.send({ type: 'pong' })
+      case 'subscribe': return this.subscribe(message.layout)
+      case 'resync': {
+        const runtime = this.slug ? this.live.runtime(this.slug) : undefined
+        if (!runtime) return this.send({ type: 'error', message: 'Subscribe to a layout first.' })
+        return this.send(runtime.snapshot())
+      }
+      case 'command': {
+        const runtime = this.slug ? this.live.runtime(this.slug) : undefined
+        if (!runtime) return this.send({ type: 'command-result', id: message.id, ok: false, reason: 'Subscribe to a layout first.' })
+        // The role and the account are checked again for every command: a change by an admin takes effect at once.
+        const current = await this.recheckUser()
+        if (!current) {
+          this.send({ type: 'command-result', id: message.id, ok: false, reason: 'This account has been disabled.' })
+          return this.peer.close(4001, 'account disabled')
+        }
+        this.user = current
+        const verdict = runtime.command(current, message.command)
+        return this.send(verdict.ok ? { type: 'command-result', id: message.id, ok: true } : { type: 'command-result', id: message.id, ok: false, reason: verdict.reason })
+      }
+    }
+  }
+
+  private subscribe(slug: string): void {
+    const runtime = this.live.runtime(slug)
+    if (!runtime) return this.send({ type: 'error', message: `layout: there is no live layout "${slug}".` })
+    this.leave()
+    this.slug = slug
+    this.live.hub.join(slug, this.peer)
+    this.send(runtime.snapshot())
+    runtime.connect(this.user)
+  }
+
+  leave(): void {
+    if (!this.slug) return
+    this.live.hub.leave(this.slug, this.peer)
+    this.live.runtime(this.slug)?.disconnect(this.user)
+    this.slug = null
+  }
+}

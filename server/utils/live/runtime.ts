@@ -1,0 +1,303 @@
+import type { Layout } from '../../../shared/schemas/layout'
+import { createEngine, type Change, type Engine, type LayoutEvent, type LayoutState } from '../../../shared/signalling'
+import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveCommand, LiveSession, LiveUser, ServerMessage } from '../../../shared/live/protocol'
+import { describeChange, namesOf } from '../../../shared/live/feed'
+import { roleAtLeast } from '../../../shared/utils/roles'
+import { indexAreas, mayInterpose, mayOperate, type AreaIndex, type Verdict } from './areas'
+import { DetectorDebounce } from './detector-debounce'
+import { signalPayload, signalTopic, turnoutSetTopic } from './topics'
+
+export interface JournalSink {
+  append(entry: { layoutId: number, sessionId: number | null, at: number, type: string, subject: string | null, payload: Record<string, unknown>, userId: number | null }): void
+}
+
+export interface RuntimeDeps {
+  layoutId: number
+  slug: string
+  layout: Layout
+  publish: (topic: string, payload: string, retain: boolean) => void
+  journal: JournalSink
+  broadcast: (message: ServerMessage) => void
+  now?: () => number
+  debounceMs?: number
+  state?: LayoutState
+  areas?: AreaHolders
+  session?: LiveSession | null
+}
+
+const FEED_LENGTH = 30
+
+/**
+ * The single writer of one layout's live state. Every input — a detector, a turnout report, an operator's
+ * command — goes through `engine.apply` in arrival order; the changes then go to MQTT (signal indications,
+ * retained), to the layout's panels (a numbered delta) and to the journal.
+ */
+export class LayoutRuntime {
+  readonly slug: string
+  readonly layout: Layout
+  private readonly engine: Engine
+  private readonly debounce: DetectorDebounce
+  private readonly areaIndex: AreaIndex
+  private readonly names: ReturnType<typeof namesOf>
+  private readonly detectorBlock: Map<string, string>
+  private readonly now: () => number
+  private seq = 0
+  private areas: AreaHolders
+  private connections = new Map<number, { user: LiveUser, count: number }>()
+  private devices: Record<string, DeviceStatus> = {}
+  private dropouts: Record<string, number> = {}
+  private feed: FeedEntry[] = []
+  private session: LiveSession | null
+  readonly counters = { rejectedInputs: 0, refusedCommands: 0, events: 0 }
+
+  constructor(private readonly deps: RuntimeDeps) {
+    this.slug = deps.slug
+    this.layout = deps.layout
+    this.now = deps.now ?? Date.now
+    this.engine = createEngine(deps.layout, deps.state)
+    this.areaIndex = indexAreas(deps.layout)
+    this.names = namesOf(deps.layout)
+    this.detectorBlock = new Map(deps.layout.blocks.flatMap(b => b.detectors.map(d => [d, b.id] as [string, string])))
+    this.areas = Object.fromEntries(deps.layout.areas.map(a => [a.id, deps.areas?.[a.id] ?? null]))
+    this.session = deps.session ?? null
+    this.debounce = new DetectorDebounce(deps.debounceMs ?? 300, {
+      change: (detector, occupied, at) => this.applyInput({ type: 'detector', detector, occupied, at }, null),
+      dropout: (detector, at) => this.recordDropout(detector, at),
+    })
+  }
+
+  /** Publishes every current indication (retained), so decoders that connect later get their aspect. */
+  publishAllIndications(): void {
+    const at = this.now()
+    for (const [signal, indication] of Object.entries(this.engine.indications())) {
+      this.deps.publish(signalTopic(this.slug, signal), signalPayload(indication, at), true)
+    }
+  }
+
+  // ---- inputs from the hardware ----
+
+  detectorInput(detector: string, occupied: boolean, at = this.now()): void {
+    if (!this.detectorBlock.has(detector)) return this.rejectInput(`detector/${detector}`, `unknown detector "${detector}"`)
+    this.debounce.input(detector, occupied, at)
+  }
+
+  turnoutReport(turnout: string, position: 'normal' | 'reverse', at = this.now()): void {
+    if (this.engine.state().turnouts[turnout] === position) return
+    this.applyInput({ type: 'turnout', turnout, position, at }, null)
+  }
+
+  deviceStatus(device: string, online: boolean, at = this.now()): void {
+    const status = { online, at }
+    this.devices[device] = status
+    this.emit([{ type: 'device', device, status }], { type: 'device', subject: device, payload: { online }, userId: null, at })
+  }
+
+  rejectInput(where: string, reason: string): void {
+    this.counters.rejectedInputs++
+    this.deps.journal.append({ layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null, at: this.now(), type: 'input-rejected', subject: where.slice(0, 64), payload: { reason }, userId: null })
+  }
+
+  // ---- operators ----
+
+  connect(user: LiveUser): void {
+    const entry = this.connections.get(user.id)
+    if (entry) entry.count++
+    else this.connections.set(user.id, { user, count: 1 })
+    if (!entry) this.emit([{ type: 'operators', operators: this.operators() }])
+  }
+
+  disconnect(user: LiveUser): void {
+    const entry = this.connections.get(user.id)
+    if (!entry) return
+    if (--entry.count > 0) return
+    this.connections.delete(user.id)
+    this.emit([{ type: 'operators', operators: this.operators() }])
+  }
+
+  operators(): LiveUser[] {
+    return [...this.connections.values()].map(c => c.user).sort((a, b) => a.name.localeCompare(b.name))
+  }
+
+  /** Checks and carries out one command; the reason is shown to the operator when refused. */
+  command(user: LiveUser, command: LiveCommand): Verdict {
+    const verdict = this.check(user, command)
+    if (!verdict.ok) { this.counters.refusedCommands++; return verdict }
+    const at = this.now()
+    const journal = { type: 'command', subject: 'area' in command ? command.area : null, payload: { ...command }, userId: user.id, at }
+    const by = String(user.id)
+    switch (command.action) {
+      case 'take-area': return this.setHolder(command.area, user, `${user.name} took ${this.names.area(command.area)}`, journal)
+      case 'release-area': return this.setHolder(command.area, null, `${user.name} released ${this.names.area(command.area)}`, journal)
+      case 'force-release': return this.setHolder(command.area, null, `${user.name} force-released ${this.names.area(command.area)}`, journal)
+      case 'hand-over': {
+        const to = this.connections.get(command.to)!.user
+        return this.setHolder(command.area, to, `${user.name} handed ${this.names.area(command.area)} over to ${to.name}`, journal)
+      }
+      case 'set-override':
+        return this.applyCommand({ type: 'override', signal: command.signal, mode: command.mode, at, by }, user, { ...journal, subject: command.signal })
+      case 'set-turnout': {
+        const verdictTurnout = this.applyCommand({ type: 'turnout', turnout: command.turnout, position: command.position, at, by }, user, { ...journal, subject: command.turnout })
+        if (verdictTurnout.ok) this.deps.publish(turnoutSetTopic(this.slug, command.turnout), JSON.stringify({ position: command.position, by: user.name }), false)
+        return verdictTurnout
+      }
+      case 'interpose':
+        return this.applyCommand({ type: 'interpose', block: command.block, description: command.description, at, by }, user, { ...journal, subject: command.block })
+      case 'acknowledge':
+        return this.applyCommand({ type: 'acknowledge', alarm: command.alarm, at, by }, user, { ...journal, subject: command.alarm })
+    }
+  }
+
+  private check(user: LiveUser, command: LiveCommand): Verdict {
+    const state = this.engine.state()
+    const areaName = this.names.area
+    const known = (kind: string, ok: boolean, id: string): Verdict => ok ? { ok: true } : { ok: false, reason: `There is no ${kind} "${id}" on this layout.` }
+    switch (command.action) {
+      case 'take-area': {
+        if (!(command.area in this.areas)) return known('area', false, command.area)
+        if (!roleAtLeast(user.role, 'signaller')) return { ok: false, reason: 'Viewers cannot take an area of control.' }
+        const holder = this.areas[command.area]
+        if (holder?.id === user.id) return { ok: false, reason: `You already hold ${areaName(command.area)}.` }
+        if (holder) return { ok: false, reason: `${areaName(command.area)} is held by ${holder.name}; ask them to hand it over.` }
+        return { ok: true }
+      }
+      case 'release-area':
+      case 'hand-over': {
+        if (!(command.area in this.areas)) return known('area', false, command.area)
+        const verdict = mayOperate(user, command.area, this.areas, areaName, 'release or hand over this area')
+        if (!verdict.ok || command.action === 'release-area') return verdict
+        const to = this.connections.get(command.to)?.user
+        if (!to) return { ok: false, reason: 'That person is not connected to this layout.' }
+        if (!roleAtLeast(to.role, 'signaller')) return { ok: false, reason: `${to.name} is a viewer and cannot hold an area.` }
+        if (to.id === user.id) return { ok: false, reason: 'You already hold it.' }
+        return { ok: true }
+      }
+      case 'force-release':
+        if (!(command.area in this.areas)) return known('area', false, command.area)
+        if (!roleAtLeast(user.role, 'admin')) return { ok: false, reason: 'Only an admin can force-release an area.' }
+        if (!this.areas[command.area]) return { ok: false, reason: `Nobody holds ${areaName(command.area)}.` }
+        return { ok: true }
+      case 'set-override': {
+        if (!(command.signal in state.overrides)) return known('signal', false, command.signal)
+        const verdict = mayOperate(user, this.areaIndex.signal.get(command.signal), this.areas, areaName, 'set this signal')
+        if (!verdict.ok) return verdict
+        const current = state.signalRevisions[command.signal]
+        return command.revision === current ? verdict
+          : { ok: false, reason: `Signal ${this.names.signal(command.signal)} was changed meanwhile (revision ${current}, your view had ${command.revision}); look again and retry.` }
+      }
+      case 'set-turnout': {
+        if (!(command.turnout in state.turnouts)) return known('turnout', false, command.turnout)
+        const verdict = mayOperate(user, this.areaIndex.turnout.get(command.turnout), this.areas, areaName, 'throw this turnout')
+        if (!verdict.ok) return verdict
+        const current = state.turnoutRevisions[command.turnout]
+        return command.revision === current ? verdict
+          : { ok: false, reason: `Turnout ${command.turnout} was changed meanwhile (revision ${current}, your view had ${command.revision}); look again and retry.` }
+      }
+      case 'interpose':
+        if (!(command.block in state.occupied)) return known('block', false, command.block)
+        return mayInterpose(user, command.block, this.areaIndex, this.areas, areaName)
+      case 'acknowledge': {
+        if (!roleAtLeast(user.role, 'signaller')) return { ok: false, reason: 'Viewers cannot acknowledge alarms.' }
+        const alarm = state.alarms.find(a => a.id === command.alarm)
+        if (!alarm) return { ok: false, reason: `There is no alarm "${command.alarm}".` }
+        if (alarm.acknowledgedAt !== null) return { ok: false, reason: 'That alarm has already been acknowledged.' }
+        return { ok: true }
+      }
+    }
+  }
+
+  private setHolder(area: string, holder: LiveUser | null, text: string, journal: JournalFields): Verdict {
+    this.areas = { ...this.areas, [area]: holder }
+    this.emit([{ type: 'areas', areas: this.areas }, { type: 'feed', entry: this.pushFeed({ at: journal.at, tone: 'info', text }) }], journal)
+    return { ok: true }
+  }
+
+  private applyCommand(event: LayoutEvent, user: LiveUser, journal: JournalFields): Verdict {
+    const changes = this.engine.apply(event)
+    const error = changes.find(c => c.type === 'error')
+    if (error && error.type === 'error') { this.counters.refusedCommands++; return { ok: false, reason: error.message } }
+    this.publishAndEmit(changes, journal, user)
+    return { ok: true }
+  }
+
+  private applyInput(event: LayoutEvent, user: LiveUser | null): void {
+    const changes = this.engine.apply(event)
+    const error = changes.find(c => c.type === 'error')
+    if (error && error.type === 'error') return this.rejectInput(error.path, error.message)
+    const subject = event.type === 'detector' ? event.detector : event.type === 'turnout' ? event.turnout : null
+    this.publishAndEmit(changes, { type: `${event.type}-input`, subject, payload: { ...event }, userId: user?.id ?? null, at: event.at }, user)
+  }
+
+  private recordDropout(detector: string, at: number): void {
+    const block = this.detectorBlock.get(detector)!
+    this.dropouts = { ...this.dropouts, [block]: at }
+    const change: LiveChange = { type: 'dropout', block, detector, at }
+    const entry = describeChange(this.layout, change, () => null, at)
+    this.emit([change, ...(entry ? [{ type: 'feed', entry: this.pushFeed(entry) } as LiveChange] : [])], { type: 'dropout', subject: block, payload: { detector }, userId: null, at })
+  }
+
+  private publishAndEmit(changes: Change[], journal: JournalFields, user: LiveUser | null): void {
+    if (!changes.length) return
+    const at = journal.at
+    const live: LiveChange[] = [...changes]
+    for (const change of changes) {
+      if (change.type === 'indication') this.deps.publish(signalTopic(this.slug, change.signal), signalPayload(change.indication, at), true)
+      const entry = describeChange(this.layout, change, id => this.userName(id, user), at)
+      if (entry) live.push({ type: 'feed', entry: this.pushFeed(entry) })
+    }
+    this.emit(live, journal, changes)
+  }
+
+  private userName(id: string | undefined, user: LiveUser | null): string | null {
+    if (!id) return null
+    if (user && String(user.id) === id) return user.name
+    return this.connections.get(Number(id))?.user.name ?? null
+  }
+
+  private pushFeed(entry: FeedEntry): FeedEntry {
+    this.feed = [entry, ...this.feed].slice(0, FEED_LENGTH)
+    return entry
+  }
+
+  /** Sends one numbered delta to the layout's panels and journals the input and each engine change. */
+  private emit(changes: LiveChange[], journal?: JournalFields, engineChanges: Change[] = []): void {
+    this.seq++
+    this.counters.events++
+    this.deps.broadcast({ type: 'delta', layout: this.slug, seq: this.seq, changes })
+    if (!journal) return
+    const base = { layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null }
+    this.deps.journal.append({ ...base, ...journal })
+    for (const change of engineChanges) {
+      this.deps.journal.append({ ...base, at: journal.at, type: change.type, subject: subjectOf(change), payload: change as unknown as Record<string, unknown>, userId: journal.userId })
+    }
+  }
+
+  snapshot(): ServerMessage {
+    const s = this.engine.state()
+    return {
+      type: 'snapshot', layout: this.slug, seq: this.seq, definition: this.layout,
+      state: {
+        occupied: s.occupied, turnouts: s.turnouts, overrides: s.overrides, descriptions: s.descriptions, alarms: s.alarms,
+        indications: this.engine.indications(), signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts: this.dropouts,
+      },
+      areas: this.areas, operators: this.operators(), devices: this.devices, session: this.session, feed: this.feed,
+    }
+  }
+
+  state(): LayoutState { return this.engine.state() }
+  areaHolders(): AreaHolders { return this.areas }
+
+  stop(): void { this.debounce.flush() }
+}
+
+interface JournalFields { type: string, subject: string | null, payload: Record<string, unknown>, userId: number | null, at: number }
+
+function subjectOf(change: Change): string | null {
+  switch (change.type) {
+    case 'detector': return change.detector
+    case 'block': case 'description': case 'speed': return change.block
+    case 'indication': case 'override': return change.signal
+    case 'turnout': return change.turnout
+    case 'alarm': case 'alarm-acknowledged': return change.alarm.signal
+    default: return null
+  }
+}

@@ -1,0 +1,44 @@
+import type { Layout } from '../schemas/layout'
+import type { FeedEntry, LiveChange } from './protocol'
+
+/** Display names of a layout's items, falling back to the id. */
+export function namesOf(layout: Layout) {
+  const block = new Map(layout.blocks.map(b => [b.id, b.name]))
+  const signal = new Map(layout.signals.map(s => [s.id, s.name]))
+  const area = new Map(layout.areas.map(a => [a.id, a.name]))
+  return {
+    block: (id: string) => block.get(id) ?? id,
+    signal: (id: string) => signal.get(id) ?? id,
+    area: (id: string) => area.get(id) ?? id,
+  }
+}
+
+/**
+ * One line for the panel's feed of latest events, or null for changes too small to list (single
+ * detector and indication changes are shown on the diagram itself).
+ */
+export function describeChange(layout: Layout, change: LiveChange, userName: (id: string | undefined) => string | null, at: number): FeedEntry | null {
+  const n = namesOf(layout)
+  const by = (id: string | undefined) => { const name = userName(id); return name ? ` by ${name}` : '' }
+  switch (change.type) {
+    case 'alarm':
+      return { at, tone: 'alarm', text: `Signal ${n.signal(change.alarm.signal)} passed at danger into ${n.block(change.alarm.block)}${change.alarm.description ? ` by ${change.alarm.description}` : ''}` }
+    case 'alarm-acknowledged':
+      return { at, tone: 'info', text: `Alarm at ${n.signal(change.alarm.signal)} acknowledged${by(change.alarm.acknowledgedBy)}` }
+    case 'override':
+      return { at, tone: 'info', text: `${n.signal(change.signal)} set to ${change.mode}${by(change.by)}` }
+    case 'turnout':
+      return { at, tone: 'info', text: `Turnout ${change.turnout} ${change.position}${by(change.by)}` }
+    case 'description':
+      if (change.reason === 'interpose') return { at, tone: 'info', text: `${change.description ?? 'Description cleared'} in ${n.block(change.block)}${by(change.by)}` }
+      return null
+    case 'speed':
+      return { at, tone: 'info', text: `${change.description} through ${n.block(change.block)} at ${Math.round(change.kmh)} km/h (${Math.round(change.mph)} mph) scale` }
+    case 'dropout':
+      return { at, tone: 'warn', text: `Detector ${change.detector} dropped out briefly in ${n.block(change.block)}: track or wheels may need cleaning` }
+    case 'device':
+      return { at, tone: change.status.online ? 'info' : 'warn', text: `Controller ${change.device} ${change.status.online ? 'online' : 'offline'}` }
+    default:
+      return null
+  }
+}
