@@ -1,4 +1,4 @@
-import type { Layout } from '../schemas/layout'
+import type { Layout, LayoutSignal } from '../schemas/layout'
 import { IndicationReader, computeIndications, sameIndication } from './aspects'
 import { scaleSpeed } from './scale'
 import { isLeg, legOf, own, placeKey, topologyOf, type Topology } from './topology'
@@ -28,59 +28,87 @@ export function initialState(layout: Layout): LayoutState {
     overrides: {},
     descriptions: {},
     alarms: [],
-    indications: {},
     signalRevisions: {},
     turnoutRevisions: {},
     alarmCount: 0,
   }
-  for (const b of topo.blocks) {
-    state.occupied[b.id] = false
-    for (const d of b.detectors) state.detectors[d] = false
-  }
-  for (const t of topo.turnoutById.keys()) {
+  for (const b of topo.blockIds) state.occupied[b] = false
+  for (const t of topo.turnoutIds) {
     state.turnouts[t] = 'unknown'
     state.turnoutRevisions[t] = 0
   }
-  for (const s of topo.signals) {
-    state.overrides[s.id] = 'auto'
-    state.signalRevisions[s.id] = 0
+  for (const s of topo.signalIds) {
+    state.overrides[s] = 'auto'
+    state.signalRevisions[s] = 0
   }
-  state.indications = computeIndications(layout, state)
   return state
 }
 
 type MapKey = Exclude<keyof LayoutState, 'revision' | 'alarmCount' | 'alarms'>
 
+/** Copies a map that holds one entry per id of the layout, in layout order (faster than a spread for big maps). */
+function copyByKeys<V>(src: Record<string, V>, keys: string[]): Record<string, V> {
+  const c: Record<string, V> = {}
+  for (let i = 0; i < keys.length; i++) {
+    const k = keys[i]!
+    const v = src[k]
+    if (v !== undefined) c[k] = v
+  }
+  return c
+}
+
 /**
- * Write access to the state during one event. `copy` mode (applyEvent) copies each map before its first
- * write and leaves the input untouched; `inPlace` mode (createEngine) writes into the state it holds.
+ * Write access to the state during one event, and the signal indications before and after it.
+ * `copy` mode (applyEvent) copies each map before its first write and leaves the input untouched, and works
+ * out indications before the event from the input state; `inPlace` mode (createEngine) writes into the state
+ * it holds and keeps the indications in a map of its own.
  */
 class Draft {
   readonly base: LayoutState
   readonly next: LayoutState
   private readonly copied = new Set<string>()
-  private readonly inPlace: boolean
+  private readonly topo: Topology
+  private readonly live: Record<string, Indication> | null
+  private beforeReader: IndicationReader | null = null
 
-  constructor(base: LayoutState, inPlace: boolean) {
+  constructor(topo: Topology, base: LayoutState, live: Record<string, Indication> | null) {
+    this.topo = topo
     this.base = base
-    this.inPlace = inPlace
-    this.next = inPlace ? base : { ...base }
+    this.live = live
+    this.next = live ? base : { ...base }
   }
 
   map<K extends MapKey>(k: K): LayoutState[K] {
-    if (!this.inPlace && !this.copied.has(k)) {
+    if (!this.live && !this.copied.has(k)) {
       this.copied.add(k)
-      this.next[k] = { ...this.next[k] }
+      const src = this.next[k] as Record<string, unknown>
+      const keys =
+        k === 'occupied' ? this.topo.blockIds : k === 'turnouts' || k === 'turnoutRevisions' ? this.topo.turnoutIds : k === 'overrides' || k === 'signalRevisions' ? this.topo.signalIds : null
+      ;(this.next as unknown as Record<string, unknown>)[k] = copyByKeys(src, keys ?? Object.keys(src))
     }
     return this.next[k]
   }
 
   alarms(): Alarm[] {
-    if (!this.inPlace && !this.copied.has('alarms')) {
+    if (!this.live && !this.copied.has('alarms')) {
       this.copied.add('alarms')
       this.next.alarms = this.next.alarms.slice()
     }
     return this.next.alarms
+  }
+
+  /** The indication a signal showed just before this event. */
+  before(signal: LayoutSignal): Indication {
+    if (this.live) {
+      const i = this.live[signal.id]
+      if (i) return i
+    }
+    this.beforeReader ??= new IndicationReader(this.topo, this.base)
+    return this.beforeReader.indication(signal)
+  }
+
+  record(signal: string, now: Indication): void {
+    if (this.live) this.live[signal] = now
   }
 }
 
@@ -189,11 +217,11 @@ function refresh(topo: Topology, draft: Draft, seeds: Iterable<string>, changes:
   const reader = new IndicationReader(topo, draft.next)
   for (const id of order) {
     const sig = topo.signalById.get(id)!
+    const before = draft.before(sig)
     const now = reader.indication(sig)
-    const before = draft.next.indications[id]
     if (!sameIndication(before, now)) {
-      draft.map('indications')[id] = now
-      changes.push({ type: 'indication', signal: id, indication: now, previous: before ?? now })
+      draft.record(id, now)
+      changes.push({ type: 'indication', signal: id, indication: now, previous: before })
     }
   }
 }
@@ -213,11 +241,12 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
     case 'detector': {
       const block = topo.detectorBlock.get(event.detector)
       if (block === undefined) return [unknown('detector', `unknown detector "${event.detector}"`)]
-      if (base.detectors[event.detector] === event.occupied) return []
-      draft.map('detectors')[event.detector] = event.occupied
+      if ((base.detectors[event.detector] === true) === event.occupied) return []
+      if (event.occupied) draft.map('detectors')[event.detector] = true
+      else delete draft.map('detectors')[event.detector]
       changes.push({ type: 'detector', detector: event.detector, block, occupied: event.occupied, at })
       const dets = topo.blockById.get(block)!.detectors
-      const occupied = dets.some((d) => draft.next.detectors[d] === true)
+      const occupied = dets.some((d) => own(draft.next.detectors, d))
       if (occupied !== (base.occupied[block] === true)) {
         changes.push({ type: 'block', block, occupied, at })
         if (occupied) enterBlock(topo, layout, draft, block, at, changes)
@@ -286,7 +315,7 @@ function enterBlock(topo: Topology, layout: Layout, draft: Draft, block: string,
   if (from !== null) {
     // signal passed at danger: judged on what the signal showed just before this event
     const sig = topo.stopAt.get(placeKey(from, block))
-    if (sig && base.indications[sig.id]?.aspect === 'danger') {
+    if (sig && draft.before(sig).aspect === 'danger') {
       const n = base.alarmCount + 1
       const alarm: Alarm = { id: `spad-${n}`, kind: 'spad', signal: sig.id, block, description, at, acknowledgedAt: null }
       draft.next.alarmCount = n
@@ -325,7 +354,7 @@ function leaveBlock(draft: Draft, block: string, at: number, changes: Change[]):
  * and the input state itself.
  */
 export function applyEvent(layout: Layout, state: LayoutState, event: LayoutEvent): { state: LayoutState; changes: Change[] } {
-  const draft = new Draft(state, false)
+  const draft = new Draft(topologyOf(layout), state, null)
   const changes = run(layout, draft, event)
   if (changes.length === 0 && draft.next.revision === state.revision) return { state, changes }
   if (changes.length === 1 && changes[0]!.type === 'error') return { state, changes }
@@ -337,25 +366,24 @@ export interface Engine {
   apply(event: LayoutEvent): Change[]
   /** The live state. Read-only: copy it (structuredClone) to keep a snapshot. */
   state(): LayoutState
-  /** Current indication of every signal. */
+  /** Current indication of every signal, kept up to date. Read-only. */
   indications(): Record<string, Indication>
 }
 
 /**
- * The live variant for the server: keeps one state and updates it in place. The per-layout lookups (which
- * signals depend on which block and turnout) are built once, so an event costs what it touches.
- * A given state is copied first and its indications recomputed.
+ * The live variant for the server: keeps one state and the indications and updates them in place. The
+ * per-layout lookups (which signals depend on which block and turnout) are built once, so an event costs
+ * what it touches, not the size of the layout. A given state is copied first.
  */
 export function createEngine(layout: Layout, state?: LayoutState): Engine {
-  topologyOf(layout)
+  const topo = topologyOf(layout)
   const current: LayoutState = state ? structuredClone(state) : initialState(layout)
-  if (state) current.indications = computeIndications(layout, current)
+  const indications = computeIndications(layout, current)
   return {
     apply(event) {
-      const draft = new Draft(current, true)
-      return run(layout, draft, event)
+      return run(layout, new Draft(topo, current, indications), event)
     },
     state: () => current,
-    indications: () => current.indications,
+    indications: () => indications,
   }
 }

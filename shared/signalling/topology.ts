@@ -14,6 +14,9 @@ import type { TurnoutPosition } from './types'
  */
 export interface Topology {
   blocks: LayoutBlock[]
+  blockIds: string[]
+  turnoutIds: string[]
+  signalIds: string[]
   blockById: Map<string, LayoutBlock>
   /** Outgoing neighbours (links from the block), in link order. */
   out: Map<string, string[]>
@@ -111,6 +114,9 @@ export function buildTopology(layout: Layout): Topology {
   }
   const t: Topology = {
     blocks: [...blockById.values()],
+    blockIds: [...blockById.keys()],
+    turnoutIds: [...turnoutById.keys()],
+    signalIds: signals.map((s) => s.id),
     blockById,
     out,
     inc,
@@ -126,6 +132,8 @@ export function buildTopology(layout: Layout): Topology {
     rearOf: new Map(),
     reach: new Map(),
   }
+  // every way through every block, worked out once
+  for (const b of t.blockIds) for (const p of t.inc.get(b)!) moveOf(t, b, p)
   for (const s of signals) {
     const r = reachOf(t, s)
     t.reach.set(s.id, r)
@@ -194,13 +202,55 @@ export interface Trace {
 
 type PositionOf = (turnoutId: string) => TurnoutPosition
 
+/** How a train in `cur` that came from `prev` can go on; worked out once per (block, entry) and kept. */
+interface Move {
+  /** The ways on (before turnout positions are looked at). */
+  cands: string[]
+  /** The facing turnout choosing between two ways on, if there are two. */
+  fork: LayoutTurnout | null
+  /** Per way on: the turnouts in `cur` it depends on, and the stop signal standing at `cur` -> that block. */
+  steps: Map<string, { needs: TurnoutNeed[]; stop: LayoutSignal | null }>
+  /** With no way on: the turnouts the entry from `prev` depends on (trailing). */
+  endNeeds: TurnoutNeed[]
+}
+
+const moveCache = new WeakMap<Topology, Map<string, Map<string, Move>>>()
+
+function moveOf(t: Topology, cur: string, prev: string): Move {
+  let byCur = moveCache.get(t)
+  if (!byCur) {
+    byCur = new Map()
+    moveCache.set(t, byCur)
+  }
+  let byPrev = byCur.get(cur)
+  if (!byPrev) {
+    byPrev = new Map()
+    byCur.set(cur, byPrev)
+  }
+  let m = byPrev.get(prev)
+  if (!m) {
+    const cands = onward(t, cur, prev)
+    const fork =
+      cands.length > 1 ? ((t.turnoutsIn.get(cur) ?? []).find((y) => cands.length === 2 && cands.includes(y.normal) && cands.includes(y.reverse)) ?? null) : null
+    const steps = new Map<string, { needs: TurnoutNeed[]; stop: LayoutSignal | null }>()
+    for (const nb of cands) steps.set(nb, { needs: needsThrough(t, cur, prev, nb), stop: t.stopAt.get(placeKey(cur, nb)) ?? null })
+    m = { cands, fork, steps, endNeeds: needsThrough(t, cur, prev, null) }
+    byPrev.set(prev, m)
+  }
+  return m
+}
+
 function checkNeeds(needs: TurnoutNeed[], pos: PositionOf, s: LayoutSignal, tr: Trace): boolean {
-  for (const n of needs) {
+  for (let i = 0; i < needs.length; i++) {
+    const n = needs[i]!
     if (legOf(n.turnout, pos(n.turnout.id)) !== n.leg) return false
     if (n.facing && tr.indicator === null && s.indicators && own(s.indicators, n.leg)) tr.indicator = s.indicators[n.leg]!
   }
   return true
 }
+
+/** Steps walked before a trace starts watching for a loop with no stop signal on it. */
+const LOOP_WATCH_AFTER = 64
 
 /**
  * The section of signal `s` along the route set by the turnouts: from `protects` on, past distant signals,
@@ -211,33 +261,36 @@ export function traceSection(t: Topology, s: LayoutSignal, pos: PositionOf): Tra
   const tr: Trace = { blocks: [], routeSet: true, next: null, indicator: null }
   let prev = s.from
   let cur = s.protects
-  const seen = new Set<string>()
-  for (;;) {
-    const state = placeKey(prev, cur)
-    if (seen.has(state)) return tr // the route runs round a loop with no stop signal on it: end of line
-    seen.add(state)
+  let seen: Set<string> | null = null
+  for (let step = 0; ; step++) {
+    if (step >= LOOP_WATCH_AFTER) {
+      seen ??= new Set()
+      const key = placeKey(prev, cur)
+      if (seen.has(key)) return tr // the route runs round a loop with no stop signal on it: end of line
+      seen.add(key)
+    }
     tr.blocks.push(cur)
-    const cands = onward(t, cur, prev)
-    let nb: string | null = null
-    if (cands.length === 1) nb = cands[0]!
-    else if (cands.length > 1) {
+    const m = moveOf(t, cur, prev)
+    let nb: string | null
+    if (m.cands.length === 0) {
+      if (!checkNeeds(m.endNeeds, pos, s, tr)) tr.routeSet = false
+      return tr
+    } else if (m.cands.length === 1) nb = m.cands[0]!
+    else {
       // a fork: a facing turnout in `cur` chooses (validation makes sure there is one)
-      const x = (t.turnoutsIn.get(cur) ?? []).find((y) => cands.includes(y.normal) && cands.includes(y.reverse))
-      const leg = x ? legOf(x, pos(x.id)) : null
-      if (leg === null) {
+      nb = m.fork ? legOf(m.fork, pos(m.fork.id)) : null
+      if (nb === null) {
         tr.routeSet = false
         return tr
       }
-      nb = leg
     }
-    if (!checkNeeds(needsThrough(t, cur, prev, nb), pos, s, tr)) {
+    const st = m.steps.get(nb)!
+    if (!checkNeeds(st.needs, pos, s, tr)) {
       tr.routeSet = false
       return tr
     }
-    if (nb === null) return tr
-    const sig = t.stopAt.get(placeKey(cur, nb))
-    if (sig) {
-      tr.next = sig
+    if (st.stop) {
+      tr.next = st.stop
       return tr
     }
     prev = cur

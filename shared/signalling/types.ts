@@ -33,13 +33,14 @@ export interface Alarm {
 
 /**
  * The whole live state of one layout. Plain JSON data: it can be stored, sent and compared.
- * Treat it as read-only; the engine replaces or updates it.
+ * Treat it as read-only; the engine replaces or updates it. Signal indications are derived from it
+ * (computeIndications, or the live engine's indications()).
  */
 export interface LayoutState {
   /** Number of events that changed the state. */
   revision: number
-  /** Every detector of the layout: true while it reports occupied. */
-  detectors: Record<string, boolean>
+  /** Detectors currently reporting occupied (value true); a detector not listed reports clear. */
+  detectors: Record<string, true>
   /** Every block: true while any of its detectors reports occupied. */
   occupied: Record<string, boolean>
   /** Occupied blocks only: epoch milliseconds at which the block last became occupied. */
@@ -49,8 +50,6 @@ export interface LayoutState {
   /** Described blocks only (berths): the train description standing in that block. */
   descriptions: Record<string, string>
   alarms: Alarm[]
-  /** Current indication of every signal (kept up to date by the engine). */
-  indications: Record<string, Indication>
   /** Per signal: raised each time its override changes. Commands made against an older revision are stale. */
   signalRevisions: Record<string, number>
   /** Per turnout: raised each time its position changes. */

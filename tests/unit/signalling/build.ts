@@ -1,5 +1,5 @@
 // Small hand-built layouts and shorthands for the signalling tests.
-import { applyEvent, initialState, validateLayout } from '../../../shared/signalling'
+import { applyEvent, computeIndications, initialState, validateLayout } from '../../../shared/signalling'
 import type { Aspect, Change, Layout, LayoutEvent, LayoutState } from '../../../shared/signalling'
 import type { LayoutInput } from '../../../shared/schemas/layout'
 
@@ -32,12 +32,16 @@ export function line(n: number, kind: Kind, exit: 'open' | 'buffer' = 'open'): L
   return valid({ schema: 1, name: 'line', scale: { name: 'OO', ratio: 76.2 }, blocks, links, signals } satisfies LayoutInput)
 }
 
+/** Indications of every signal in a state. */
+export const ind = (layout: Layout, state: LayoutState) => computeIndications(layout, state)
+
 export const LETTER: Record<Aspect, string> = { danger: 'R', caution: 'Y', 'preliminary-caution': 'YY', proceed: 'G' }
 
 /** Aspects as R / Y / YY / G, in signal order, space separated. */
 export function aspects(layout: Layout, state: LayoutState, ids?: string[]): string {
   const list = ids ?? layout.signals.map((s) => s.id)
-  return list.map((id) => LETTER[state.indications[id]!.aspect]).join(' ')
+  const now = computeIndications(layout, state)
+  return list.map((id) => LETTER[now[id]!.aspect]).join(' ')
 }
 
 export function detectorOf(layout: Layout, blockId: string): string {

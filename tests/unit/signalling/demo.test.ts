@@ -5,7 +5,7 @@ import demo from '../../../shared/layouts/demo-layout.json'
 import { applyEvent, createEngine, initialState, validateLayout } from '../../../shared/signalling'
 import type { Change, Indication, Layout, LayoutEvent, LayoutState } from '../../../shared/signalling'
 import type { Point } from '../../../shared/schemas/layout'
-import { LETTER } from './build'
+import { LETTER, ind } from './build'
 
 function demoLayout(): Layout {
   const r = validateLayout(demo)
@@ -132,7 +132,7 @@ describe('one train through the demo layout', () => {
     const layout = demoLayout()
     let state: LayoutState = initialState(layout)
     for (const e of setup) state = applyEvent(layout, state, e).state
-    expect(layout.signals.map((s) => `${s.id} ${show(state.indications[s.id]!)}`).join(', ')).toBe(afterSetup)
+    expect(layout.signals.map((s) => `${s.id} ${show(ind(layout, state)[s.id]!)}`).join(', ')).toBe(afterSetup)
     const all: Change[] = []
     for (const [name, event, want] of steps) {
       const r = applyEvent(layout, state, event)

@@ -258,13 +258,23 @@ describe('applyEvent on random layouts and event sequences', () => {
     )
   })
 
-  it('keeps the indications in the state equal to a full computeIndications', () => {
+  it('reports exactly the indications that changed, with their previous indication', () => {
     fc.assert(
       fc.property(scenarioArb, ([layout, events]) => {
         let state = initialState(layout)
+        let before = computeIndications(layout, state)
         for (const e of events) {
-          state = applyEvent(layout, state, e).state
-          expect(state.indications).toEqual(computeIndications(layout, state))
+          const r = applyEvent(layout, state, e)
+          const after = computeIndications(layout, r.state)
+          const changed = layout.signals.map((s) => s.id).filter((id) => JSON.stringify(before[id]) !== JSON.stringify(after[id]))
+          const reported = r.changes.flatMap((c) => (c.type === 'indication' ? [c] : []))
+          expect(reported.map((c) => c.signal)).toEqual(changed)
+          for (const c of reported) {
+            expect(c.indication).toEqual(after[c.signal])
+            expect(c.previous).toEqual(before[c.signal])
+          }
+          state = r.state
+          before = after
         }
       }),
       RUNS,
@@ -277,10 +287,11 @@ describe('applyEvent on random layouts and event sequences', () => {
         let state = initialState(layout)
         for (const e of events) {
           state = applyEvent(layout, state, e).state
+          const shown = computeIndications(layout, state)
           for (const s of layout.signals) {
             const { blocks, known } = referenceSection(layout, state, s)
             const occupied = blocks.some((b) => state.occupied[b])
-            const ind = state.indications[s.id]!
+            const ind = shown[s.id]!
             if (occupied || !known || state.overrides[s.id] === 'hold') {
               expect(ind.aspect, `${s.id} ${s.kind}`).toBe(s.kind === 'distant' ? 'caution' : 'danger')
             }
@@ -301,9 +312,10 @@ describe('applyEvent on random layouts and event sequences', () => {
         let state = initialState(layout)
         for (const e of events) {
           const r = applyEvent(layout, state, e)
+          const shownBefore = computeIndications(layout, state)
           for (const c of r.changes) {
             if (c.type === 'alarm') {
-              expect(state.indications[c.alarm.signal]!.aspect).toBe('danger')
+              expect(shownBefore[c.alarm.signal]!.aspect).toBe('danger')
               const sig = layout.signals.find((s) => s.id === c.alarm.signal)!
               expect(sig.protects).toBe(c.alarm.block)
               expect(state.occupied[sig.from]).toBe(true)
@@ -331,6 +343,7 @@ describe('createEngine', () => {
           state = r.state
           expect(engine.apply(e)).toEqual(r.changes)
           expect(engine.state()).toEqual(state)
+          expect(engine.indications()).toEqual(computeIndications(layout, state))
         }
       }),
       RUNS,

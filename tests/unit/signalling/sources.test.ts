@@ -2,7 +2,7 @@
 // Aspects are written R (danger), Y (caution), YY (preliminary caution), G (proceed).
 import { describe, expect, it } from 'vitest'
 import { SCALES, scaleSpeed } from '../../../shared/signalling'
-import { alarmsOf, aspects, block, clr, line, mode, occ, run, set, valid, withOccupied } from './build'
+import { alarmsOf, aspects, block, clr, ind, line, mode, occ, run, set, valid, withOccupied } from './build'
 import { initialState } from '../../../shared/signalling'
 
 describe('British multiple-aspect sequences', () => {
@@ -139,7 +139,7 @@ describe('Junction indicators', () => {
       const layout = junction(kind)
       const { state } = run(layout, [set('T', 'normal')])
       expect(aspects(layout, state)).toBe('G G G G G G G')
-      expect(state.indications.S3!.indicator).toBeNull()
+      expect(ind(layout, state).S3!.indicator).toBeNull()
     }
   })
 
@@ -148,13 +148,13 @@ describe('Junction indicators', () => {
     // signal shows a proceed aspect for a diverging route; no indicator for the straight route.
     const layout = junction('four-aspect')
     const reverse = run(layout, [set('T', 'reverse')]).state
-    expect(reverse.indications.S3).toMatchObject({ aspect: 'proceed', indicator: '1' })
+    expect(ind(layout, reverse).S3).toMatchObject({ aspect: 'proceed', indicator: '1' })
     // train on the branch in B4d: S3 reads S4d at danger -> caution, still a proceed aspect, indicator lit
     const ahead = withOccupied(layout, ['B4d'], reverse)
-    expect(ahead.indications.S3).toMatchObject({ aspect: 'caution', indicator: '1' })
+    expect(ind(layout, ahead).S3).toMatchObject({ aspect: 'caution', indicator: '1' })
     // train in the junction block: S3 at danger, indicator out
     const own = withOccupied(layout, ['B3'], reverse)
-    expect(own.indications.S3).toMatchObject({ aspect: 'danger', indicator: null })
+    expect(ind(layout, own).S3).toMatchObject({ aspect: 'danger', indicator: null })
   })
 })
 
