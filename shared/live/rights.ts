@@ -12,7 +12,8 @@ import type { AreaHolders, LiveUser } from './protocol'
 
 export interface PanelUser { id: number, name: string, role: Role }
 
-export type Verdict = { allowed: true, area: LayoutArea | null } | { allowed: false, area: LayoutArea | null, reason: string }
+/** `reason` says why not, in words for the person at the panel; null when allowed. */
+export interface Verdict { allowed: boolean, area: LayoutArea | null, reason: string | null }
 
 export function areaOfSignal(def: Layout, signal: string): LayoutArea | null {
   return def.areas.find(a => a.signals.includes(signal)) ?? null
@@ -41,7 +42,7 @@ export function verdictForArea(user: PanelUser | null, holders: AreaHolders, are
   const holder = holderOf(holders, area.id)
   if (!holder) return { allowed: false, area, reason: `Nobody holds ${area.name}. Take the area to work this ${what}.` }
   if (holder.id !== user.id) return { allowed: false, area, reason: `${holder.name} holds ${area.name}; only the holder works this ${what}.` }
-  return { allowed: true, area }
+  return { allowed: true, area, reason: null }
 }
 
 export function signalVerdict(user: PanelUser | null, def: Layout, holders: AreaHolders, signal: string): Verdict {
@@ -57,7 +58,7 @@ export function interposeVerdict(user: PanelUser | null, def: Layout, holders: A
   if (area) return verdictForArea(user, holders, area, 'berth')
   if (!user || !roleAtLeast(user.role, 'signaller')) return { allowed: false, area: null, reason: VIEWER_REASON }
   const holdsAny = Object.values(holders).some(h => h?.id === user.id)
-  return holdsAny ? { allowed: true, area: null } : { allowed: false, area: null, reason: 'This block is in no area of control: take any area to interpose here.' }
+  return holdsAny ? { allowed: true, area: null, reason: null } : { allowed: false, area: null, reason: 'This block is in no area of control: take any area to interpose here.' }
 }
 
 /** What the area bar offers `user` for one area. */

@@ -1,42 +1,12 @@
 // The panel's link to /live against a real WebSocket server (the `ws` package) that speaks the protocol of
 // shared/live/protocol.ts with states made by the real engine. Short delays keep the run quick.
 import { afterEach, describe, expect, it } from 'vitest'
-import WebSocket, { WebSocketServer } from 'ws'
-import type { AddressInfo } from 'node:net'
+import WebSocket from 'ws'
 import { emptyView } from '../../../shared/live/apply'
 import { LiveConnection, type ConnectionState, type SocketLike } from '../../../shared/live/connection'
-import type { ClientMessage, ServerMessage } from '../../../shared/live/protocol'
+import type { ServerMessage } from '../../../shared/live/protocol'
 import { DemoRun, SLUG, TAM } from '../../support/live-fixtures'
-
-interface TestServer { wss: WebSocketServer, url: string, received: ClientMessage[], clients: Set<WebSocket>, close: () => Promise<void> }
-
-/** A /live server that answers subscribe and resync with the run's snapshot; `silent` accepts and says nothing. */
-async function startServer(run: DemoRun, opts: { port?: number, silent?: boolean } = {}): Promise<TestServer> {
-  const wss = new WebSocketServer({ host: '127.0.0.1', port: opts.port ?? 0 })
-  await new Promise(resolve => wss.once('listening', resolve))
-  const received: ClientMessage[] = []
-  const clients = new Set<WebSocket>()
-  wss.on('connection', (ws) => {
-    clients.add(ws)
-    ws.on('close', () => clients.delete(ws))
-    if (opts.silent) return
-    ws.send(JSON.stringify({ type: 'welcome', user: TAM } satisfies ServerMessage))
-    ws.on('message', (data) => {
-      const msg = JSON.parse(String(data)) as ClientMessage
-      received.push(msg)
-      if (msg.type === 'subscribe' || msg.type === 'resync') ws.send(JSON.stringify(run.snapshot()))
-      if (msg.type === 'command') ws.send(JSON.stringify({ type: 'command-result', id: msg.id, ok: false, reason: 'stale revision' }))
-    })
-  })
-  const url = `ws://127.0.0.1:${(wss.address() as AddressInfo).port}/live`
-  const close = () => new Promise<void>((resolve) => {
-    for (const c of clients) c.terminate()
-    wss.close(() => resolve())
-  })
-  return { wss, url, received, clients, close }
-}
-
-const broadcast = (s: TestServer, msg: ServerMessage) => { for (const c of s.clients) c.send(JSON.stringify(msg)) }
+import { startLiveServer as startServer, type TestLiveServer as TestServer } from '../../support/live-server'
 
 const open: LiveConnection[] = []
 const servers: TestServer[] = []
@@ -79,10 +49,10 @@ describe('LiveConnection', () => {
     servers.push(server)
     const { link, view } = connect(server.url)
     await expect.poll(() => link.state).toBe('live')
-    broadcast(server, run.occupy('UM1'))
+    server.broadcast(run.occupy('UM1'))
     await expect.poll(() => view.state.occupied.UM1).toBe(true)
     run.interpose('UM1', '2J01') // never sent: the panel misses seq 2
-    broadcast(server, run.occupy('UM2'))
+    server.broadcast(run.occupy('UM2'))
     await expect.poll(() => server.received.some(m => m.type === 'resync')).toBe(true)
     await expect.poll(() => view.seq).toBe(run.seq)
     expect(view.state).toEqual(run.liveState())
@@ -106,7 +76,7 @@ describe('LiveConnection', () => {
   it('reads offline after repeated failures and comes back live when the server returns', async () => {
     const run = new DemoRun()
     const first = await startServer(run)
-    const port = (first.wss.address() as AddressInfo).port
+    const port = first.port
     const { link } = connect(first.url)
     await expect.poll(() => link.state).toBe('live')
     await first.close()
@@ -132,6 +102,8 @@ describe('LiveConnection', () => {
     const { link, messages } = connect(server.url)
     await expect.poll(() => link.state).toBe('live')
     expect(link.send({ type: 'command', id: 'c1', command: { action: 'take-area', area: 'main' } })).toBe(true)
+    await expect.poll(() => server.commands().map(c => c.id)).toEqual(['c1'])
+    server.broadcast({ type: 'command-result', id: 'c1', ok: false, reason: 'stale revision' })
     await expect.poll(() => messages.find(m => m.type === 'command-result')).toEqual({ type: 'command-result', id: 'c1', ok: false, reason: 'stale revision' })
     link.stop()
     expect(link.state).toBe('idle')

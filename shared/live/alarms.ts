@@ -1,0 +1,31 @@
+import type { Layout } from '../schemas/layout'
+import type { Alarm } from '../signalling/types'
+import { nameOf } from './diagram'
+
+/** Alarms still waiting for a signaller's acknowledgement, oldest first. */
+export function openAlarms(alarms: Alarm[]): Alarm[] {
+  return alarms.filter(a => a.acknowledgedAt === null).sort((a, b) => a.at - b.at)
+}
+
+/** The most recently acknowledged alarm, if it was acknowledged within `withinMs` of `now`. */
+export function recentlyAcknowledged(alarms: Alarm[], now: number, withinMs = 60_000): Alarm | null {
+  let best: Alarm | null = null
+  for (const a of alarms) {
+    if (a.acknowledgedAt !== null && now - a.acknowledgedAt <= withinMs && (!best || a.acknowledgedAt > best.acknowledgedAt!)) best = a
+  }
+  return best
+}
+
+/** The alarm in words, naming the signal, the block and the train from the layout definition. */
+export function alarmText(def: Layout | null, alarm: Alarm): string {
+  const signal = `${nameOf(def?.signals, alarm.signal)} (${alarm.signal})`
+  const block = `${nameOf(def?.blocks, alarm.block)} (${alarm.block})`
+  const train = alarm.description ? `Train ${alarm.description}` : 'An undescribed train'
+  return `Signal passed at danger: ${signal}. ${train} entered ${block}.`
+}
+
+/** The name behind a change's `by` (the server sends the person's id as text), if that person is known. */
+export function personName(by: string | undefined, people: { id: number, name: string }[]): string | null {
+  if (by === undefined) return null
+  return people.find(p => String(p.id) === by)?.name ?? null
+}
