@@ -8,17 +8,21 @@ cd "$(dirname "$0")/.."
 . scripts/lib/postgres.sh
 
 WEB_PORT=${PORT:-3000}
+MQTT_PORT=${MQTT_PORT:-18830}
 DB_PORT=${BLOCKBELL_DB_PORT:-54329}
 DATA_DIR="$PWD/.data"
 mkdir -p "$DATA_DIR"
 
 ensure_node_modules
 port_free "$WEB_PORT" || die "Port $WEB_PORT is taken (another Blockbell?). Stop it, or start with PORT=<free port> npm start."
+[ -n "${MQTT_URL:-}" ] || port_free "$MQTT_PORT" || die "MQTT port $MQTT_PORT is taken. Stop what uses it, or start with MQTT_PORT=<free port> npm start."
 
 SERVER_PID=
+FAKE_PID=
 cleanup() {
   local rc=$?
   trap - INT TERM EXIT
+  if [ -n "$FAKE_PID" ]; then kill -TERM "$FAKE_PID" 2>/dev/null; log "Fake layout stopped"; fi
   if [ -n "$SERVER_PID" ] && kill -0 "$SERVER_PID" 2>/dev/null; then
     kill -TERM "$SERVER_PID" 2>/dev/null || true
     for _ in $(seq 1 20); do kill -0 "$SERVER_PID" 2>/dev/null || break; sleep 0.2; done
@@ -48,9 +52,15 @@ fi
 log "Building the app (nuxt build)..."
 ./node_modules/.bin/nuxt build > "$DATA_DIR/build.log" 2>&1 || { tail -30 "$DATA_DIR/build.log"; die "nuxt build failed (full log: .data/build.log)"; }
 
-HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' &
+# Demo mode: the embedded broker also lets anonymous MQTT clients in (tools such as mosquitto_pub).
+BLOCKBELL_DEMO=1 MQTT_PORT="$MQTT_PORT" HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' &
 SERVER_PID=$!
 wait_for_http "http://127.0.0.1:$WEB_PORT/api/health" 60 || die "The server did not answer on port $WEB_PORT"
+
+# The fake layout stands in for the hardware: trains, detectors and turnouts over MQTT.
+MQTT_URL="${MQTT_URL:-mqtt://127.0.0.1:$MQTT_PORT}" sh -c 'exec ./node_modules/.bin/tsx fake-hardware/index.ts' > "$DATA_DIR/fake-layout.log" 2>&1 &
+FAKE_PID=$!
+log "Fake layout running (log: .data/fake-layout.log)"
 
 printf '\n  Blockbell is running at http://127.0.0.1:%s\n\n' "$WEB_PORT"
 ./node_modules/.bin/tsx server/database/cli.ts accounts

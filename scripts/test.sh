@@ -8,7 +8,8 @@ cd "$(dirname "$0")/.."
 . scripts/lib/postgres.sh
 
 ensure_node_modules
-ensure_chromium
+ensure_test_packages
+export PATH="$PATH:/usr/sbin"
 
 DB_PORT=${BLOCKBELL_TEST_DB_PORT:-54339}
 WEB_PORT=${BLOCKBELL_TEST_PORT:-3939}

@@ -23,8 +23,13 @@ ensure_node_modules() {
   fi
 }
 
-ensure_chromium() {
-  command -v chromium >/dev/null 2>&1 || { log "Installing Debian's chromium for the browser tests..."; apt_install chromium fonts-dejavu-core; }
+ensure_test_packages() {
+  # Debian's chromium (browser tests) and mosquitto + mosquitto_pub (MQTT interoperability tests).
+  local missing=()
+  command -v chromium >/dev/null 2>&1 || missing+=(chromium fonts-dejavu-core)
+  command -v mosquitto >/dev/null 2>&1 || [ -x /usr/sbin/mosquitto ] || missing+=(mosquitto)
+  command -v mosquitto_pub >/dev/null 2>&1 || missing+=(mosquitto-clients)
+  [ ${#missing[@]} = 0 ] || { log "Installing Debian packages for the tests: ${missing[*]}"; apt_install "${missing[@]}"; }
 }
 
 port_free() { ! (exec 3<>"/dev/tcp/127.0.0.1/$1") 2>/dev/null; }

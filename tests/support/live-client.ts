@@ -18,8 +18,8 @@ export class LiveClient {
     })
   }
 
-  static async open(cookie: string, origin = BASE_URL): Promise<LiveClient> {
-    const socket = new WebSocket(WS_URL, { headers: { cookie, origin } })
+  static async open(cookie: string, base = BASE_URL): Promise<LiveClient> {
+    const socket = new WebSocket(base.replace(/^http/, 'ws') + '/live', { headers: { cookie, origin: base } })
     const client = new LiveClient(socket)
     await new Promise<void>((resolve, reject) => { socket.once('open', () => resolve()); socket.once('error', reject) })
     await client.next(m => m.type === 'welcome')
