@@ -33,6 +33,7 @@ export function initialState(layout: Layout): LayoutState {
     alarmCount: 0,
   }
   for (const b of topo.blockIds) state.occupied[b] = false
+  for (const d of topo.detectorIds) state.detectors[d] = false
   for (const t of topo.turnoutIds) {
     state.turnouts[t] = 'unknown'
     state.turnoutRevisions[t] = 0
@@ -83,7 +84,7 @@ class Draft {
       this.copied.add(k)
       const src = this.next[k] as Record<string, unknown>
       const keys =
-        k === 'occupied' ? this.topo.blockIds : k === 'turnouts' || k === 'turnoutRevisions' ? this.topo.turnoutIds : k === 'overrides' || k === 'signalRevisions' ? this.topo.signalIds : null
+        k === 'occupied' ? this.topo.blockIds : k === 'detectors' ? this.topo.detectorIds : k === 'turnouts' || k === 'turnoutRevisions' ? this.topo.turnoutIds : k === 'overrides' || k === 'signalRevisions' ? this.topo.signalIds : null
       ;(this.next as unknown as Record<string, unknown>)[k] = copyByKeys(src, keys ?? Object.keys(src))
     }
     return this.next[k]
@@ -242,11 +243,10 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       const block = topo.detectorBlock.get(event.detector)
       if (block === undefined) return [unknown('detector', `unknown detector "${event.detector}"`)]
       if ((base.detectors[event.detector] === true) === event.occupied) return []
-      if (event.occupied) draft.map('detectors')[event.detector] = true
-      else delete draft.map('detectors')[event.detector]
+      draft.map('detectors')[event.detector] = event.occupied
       changes.push({ type: 'detector', detector: event.detector, block, occupied: event.occupied, at })
       const dets = topo.blockById.get(block)!.detectors
-      const occupied = dets.some((d) => own(draft.next.detectors, d))
+      const occupied = dets.some((d) => draft.next.detectors[d] === true)
       if (occupied !== (base.occupied[block] === true)) {
         changes.push({ type: 'block', block, occupied, at })
         if (occupied) enterBlock(topo, layout, draft, block, at, changes)

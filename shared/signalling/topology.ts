@@ -15,6 +15,7 @@ import type { TurnoutPosition } from './types'
 export interface Topology {
   blocks: LayoutBlock[]
   blockIds: string[]
+  detectorIds: string[]
   turnoutIds: string[]
   signalIds: string[]
   blockById: Map<string, LayoutBlock>
@@ -115,6 +116,7 @@ export function buildTopology(layout: Layout): Topology {
   const t: Topology = {
     blocks: [...blockById.values()],
     blockIds: [...blockById.keys()],
+    detectorIds: [...detectorBlock.keys()],
     turnoutIds: [...turnoutById.keys()],
     signalIds: signals.map((s) => s.id),
     blockById,

@@ -39,8 +39,8 @@ export interface Alarm {
 export interface LayoutState {
   /** Number of events that changed the state. */
   revision: number
-  /** Detectors currently reporting occupied (value true); a detector not listed reports clear. */
-  detectors: Record<string, true>
+  /** Every detector of the layout: true while it reports occupied. */
+  detectors: Record<string, boolean>
   /** Every block: true while any of its detectors reports occupied. */
   occupied: Record<string, boolean>
   /** Occupied blocks only: epoch milliseconds at which the block last became occupied. */
