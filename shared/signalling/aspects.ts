@@ -3,7 +3,7 @@ import { isStop, topologyOf, traceSection, type Topology, type Trace } from './t
 import type { Aspect, Indication, LayoutState, OverrideMode, TurnoutPosition } from './types'
 
 /**
- * Aspect rules (DESIGN.md "Signalling rules"):
+ * Blockbell aspect rules:
  * - A stop signal shows danger when it is held, when any block of its section is occupied, or when the route
  *   through a turnout in its section is unknown or set against it.
  * - Otherwise, automatic working: two-aspect stop signals show proceed; three- and four-aspect signals show

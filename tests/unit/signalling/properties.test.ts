@@ -169,7 +169,7 @@ function deepFreeze<T>(o: T): T {
 }
 
 /**
- * The section of a signal per DESIGN.md, traced independently of the engine: from `protects` along the set
+ * The section of a signal as Blockbell defines it, traced independently of the engine: from `protects` along the set
  * route up to and including the block where the next stop signal stands. `known` is false where a turnout on
  * the way is unknown or set against the route.
  */

@@ -232,6 +232,14 @@ describe('routes through a facing turnout', () => {
     expect(ind(layout, state).S3!.indicator).toBe(indicator)
   })
 
+  it('clear cannot show proceed over a turnout whose position is unknown', () => {
+    const layout = facingJunction(true)
+    const { state } = run(layout, [mode('S3', 'clear')])
+    expect(ind(layout, state).S3).toMatchObject({ aspect: 'danger', override: 'clear', exceedsLine: false })
+    const normal = run(layout, [set('T', 'normal')], state).state
+    expect(ind(layout, normal).S3).toMatchObject({ aspect: 'proceed', override: 'clear', exceedsLine: false })
+  })
+
   it('the indicator goes out when the junction signal goes to danger, and only the junction signal shows it', () => {
     const layout = facingJunction(true)
     const { state } = run(layout, [set('T', 'reverse'), mode('S3', 'hold')])

@@ -178,19 +178,20 @@ describe('North American three- and four-indication automatic block signals', ()
 
 describe('Scale ratios', () => {
   const ratio = (name: string) => SCALES.find((s) => s.name === name)?.ratio
+  // NMRA Standard S-1.2 defines these scales; the ratios below are as restated by crazymodeltrains.com,
+  // modeltrainshop.co.za and reginarailwaymodellers.org (the sheet's exact wording is from memory).
   it.each([
-    // NMRA Standard S-1.2: HO is 3.5 mm to the foot, 304.8 / 3.5 = 87.09, quoted as 1:87.1
+    // HO: 3.5 mm to the foot, 304.8 / 3.5 = 87.09, quoted as 1:87.1 (crazymodeltrains.com)
     ['HO', 87.1],
-    // British 4 mm scale: 4 mm to the foot, 304.8 / 4 = 76.2 (common practice)
+    // British 4 mm scale: 4 mm to the foot, 304.8 / 4 = 76.2 (modeltrainshop.co.za)
     ['OO', 76.2],
-    // NMRA Standard S-1.2
     ['N', 160],
     ['TT', 120],
     ['S', 64],
     ['O (North America)', 48],
-    // British N: 2.0625 mm to the foot, about 1:148 (common practice)
+    // British N: 2.0625 mm to the foot, about 1:148 (crazymodeltrains.com)
     ['N (UK)', 148],
-    // common practice
+    // Z: common practice
     ['Z', 220],
   ])('%s is 1:%d', (name, want) => {
     expect(ratio(name)).toBe(want)
