@@ -85,7 +85,7 @@ async function countLines(path: string): Promise<number> {
 export interface LeftoverJournalSpill {
   path: string
   size: number
-  /** Entries in it, counted when found. */
+  /** Lines in it (entries, plus any unreadable line), counted when found. */
   count: number
   /** Byte offset of the first entry not yet stored. */
   offset: number

@@ -150,9 +150,9 @@ class EventJournal implements Journal {
   private async loadLeftovers(dir: string): Promise<void> {
     try {
       this.leftovers = await findLeftoverJournalSpills(dir)
-      const count = this.leftovers.reduce((n, f) => n + f.count, 0)
+      const lines = this.leftovers.reduce((n, f) => n + f.count, 0)
       if (this.leftovers.length) {
-        this.log(`Journal: found ${count} entries left in ${this.leftovers.length} spill file(s) in ${dir}; writing them before new entries`)
+        this.log(`Journal: found ${this.leftovers.length} spill file(s) left in ${dir} (${lines} lines); writing them before new entries`)
         this.wake(0)
       }
     } catch (error) {
