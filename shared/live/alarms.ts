@@ -7,15 +7,6 @@ export function openAlarms(alarms: Alarm[]): Alarm[] {
   return alarms.filter(a => a.acknowledgedAt === null).sort((a, b) => a.at - b.at)
 }
 
-/** The most recently acknowledged alarm, if it was acknowledged within `withinMs` of `now`. */
-export function recentlyAcknowledged(alarms: Alarm[], now: number, withinMs = 60_000): Alarm | null {
-  let best: Alarm | null = null
-  for (const a of alarms) {
-    if (a.acknowledgedAt !== null && now - a.acknowledgedAt <= withinMs && (!best || a.acknowledgedAt > best.acknowledgedAt!)) best = a
-  }
-  return best
-}
-
 /** The alarm in words, naming the signal, the block and the train from the layout definition. */
 export function alarmText(def: Layout | null, alarm: Alarm): string {
   const signal = `${nameOf(def?.signals, alarm.signal)} (${alarm.signal})`

@@ -12,15 +12,18 @@ import type { ClientMessage, ServerMessage } from './protocol'
  */
 export type ConnectionState = 'idle' | 'connecting' | 'live' | 'reconnecting' | 'offline'
 
-/** The part of the WebSocket interface used here (the browser's WebSocket and the `ws` package both fit). */
+/**
+ * The part of the WebSocket interface used here (the browser's WebSocket and the `ws` package both fit;
+ * the handlers' event types differ between the two, hence `never`).
+ */
 export interface SocketLike {
   readonly readyState: number
   send(data: string): void
   close(code?: number, reason?: string): void
-  onopen: ((ev: unknown) => void) | null
-  onmessage: ((ev: { data: unknown }) => void) | null
-  onclose: ((ev: unknown) => void) | null
-  onerror: ((ev: unknown) => void) | null
+  onopen: ((ev: never) => void) | null
+  onmessage: ((ev: never) => void) | null
+  onclose: ((ev: never) => void) | null
+  onerror: ((ev: never) => void) | null
 }
 
 export interface LiveConnectionOptions {
@@ -122,7 +125,7 @@ export class LiveConnection {
       this.heard()
       this.pingTimer = setInterval(() => this.send({ type: 'ping' }), this.o.pingEveryMs)
     }
-    socket.onmessage = (ev) => {
+    socket.onmessage = (ev: { data: unknown }) => {
       if (this.socket === socket) this.receive(ev.data)
     }
     socket.onclose = () => {

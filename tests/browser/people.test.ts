@@ -26,7 +26,7 @@ describe('in a real browser (Debian chromium)', () => {
     const { page } = browser
     await signInThroughForm(page, DEMO.admin.email, DEMO.admin.password)
     await page.waitForURL('**/panel')
-    await expect.poll(() => page.getByTestId('not-built').textContent()).toContain('Not built yet.')
+    await expect.poll(() => page.getByTestId('panel-title').textContent()).toContain('Wrenfold Junction')
     await page.getByRole('link', { name: 'People' }).click()
     await page.waitForURL('**/people')
     const email = `browser-${unique()}@fernhollow.example`
