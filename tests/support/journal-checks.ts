@@ -1,5 +1,5 @@
 // What the journal tests share: numbered entries, reading back what was stored, waiting for a condition.
-import { mkdtempSync } from 'node:fs'
+import { mkdtempSync, rmSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { QueryTypes } from 'sequelize'
@@ -44,8 +44,11 @@ export async function waitUntil(condition: () => boolean | Promise<boolean>, wha
 
 export const sleep = (ms: number) => new Promise(done => setTimeout(done, ms))
 
+/** A new empty folder, removed when the test process exits. */
 export function scratchDir(name: string): string {
-  return mkdtempSync(join(process.env.BLOCKBELL_TEST_DATA ?? tmpdir(), `${name}-`))
+  const dir = mkdtempSync(join(process.env.BLOCKBELL_TEST_DATA ?? tmpdir(), `${name}-`))
+  process.once('exit', () => rmSync(dir, { recursive: true, force: true }))
+  return dir
 }
 
 let layoutCount = 0
