@@ -142,4 +142,27 @@ describe('event journal: while PostgreSQL is down', () => {
     expect(spillFiles(spillDir)).toEqual([])
     await next.close()
   }, 40_000)
+
+  it('entries appended while close() runs, or after it, are kept in order for the next start', async () => {
+    const layoutId = await freshLayout(db)
+    const spillDir = scratchDir('journal-spill')
+    await cluster.stop()
+    try {
+      const j = journal({ spillDir })
+      for (const n of range(0, 10)) j.append(numbered(layoutId, n))
+      const closing = j.close()
+      for (const n of range(10, 5)) j.append(numbered(layoutId, n)) // a last change racing the shutdown
+      await closing
+      j.append(numbered(layoutId, 15)) // after close: straight to the file
+      const [file] = spillFiles(spillDir)
+      const kept = readFileSync(join(spillDir, file!), 'utf8').trim().split('\n').map(line => JSON.parse(line).payload.n)
+      expect(kept).toEqual(range(0, 16))
+    } finally {
+      await cluster.start()
+    }
+    const next = journal({ spillDir })
+    await waitUntil(() => next.stats().written === 16, 'the kept entries are written')
+    expect((await storedRows(db, layoutId)).map(r => r.n)).toEqual(range(0, 16))
+    await next.close()
+  }, 40_000)
 })

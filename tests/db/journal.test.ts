@@ -169,4 +169,17 @@ describe('event journal: entries PostgreSQL refuses', () => {
     expect(rows[2]!.payload.unserialisable).toMatch(/bigint/i)
     expect(lines.filter(l => /cut to|could not be serialised|time was not a number/.test(l))).toHaveLength(4)
   })
+
+  it('stores an entry holding the character U+0000, which PostgreSQL text and jsonb refuse, with U+FFFD instead', async () => {
+    await expect(db.sequelize.query(`SELECT '{"a":"\\u0000"}'::jsonb`)).rejects.toThrow(/unsupported Unicode escape|cannot be converted to text/)
+    await expect(db.sequelize.query(`SELECT convert_from('\\x00'::bytea, 'UTF8')::text`)).rejects.toThrow(/invalid byte sequence/)
+    const layoutId = await freshLayout(db)
+    const j = journal()
+    j.append({ ...numbered(layoutId, 0), subject: 'B\u00001', payload: { text: 'left\u0000right' } })
+    await j.flush()
+    const [row] = await db.sequelize.query<{ subject: string, payload: { text: string } }>(
+      `SELECT subject, payload FROM events WHERE layout_id = ${layoutId}`, { type: QueryTypes.SELECT })
+    expect(row).toEqual({ subject: 'B\uFFFD1', payload: { text: 'left\uFFFDright' } })
+    expect(j.stats()).toMatchObject({ written: 1, rejected: 0 })
+  })
 })

@@ -33,13 +33,26 @@ export function journalEntryKey(bootId: string, seq: number): string {
   return `${bootId}-${seq.toString(36)}`
 }
 
+// PostgreSQL text and jsonb cannot hold the character U+0000; it becomes U+FFFD rather than cost the entry.
+const NUL = /\u0000/g
+const NUL_ESCAPE = /(?<!\\)((?:\\\\)*)\\u0000/g // \u0000 in JSON text, not preceded by an escaped backslash
+
+function withoutNul(text: string, what: string, problems: string[]): string {
+  if (!text.includes('\u0000')) return text
+  problems.push(`${what}: character U+0000 replaced`)
+  return text.replace(NUL, '\uFFFD')
+}
+
 function serialisePayload(payload: unknown, problems: string[]): string {
   if (payload === undefined || payload === null) return '{}'
   try {
-    const json = JSON.stringify(payload)
+    let json = JSON.stringify(payload)
     // Only objects fit the payload column's meaning; wrap anything else rather than lose it.
     if (json === undefined) return '{}'
-    return json.startsWith('{') ? json : JSON.stringify({ value: payload })
+    if (!json.startsWith('{')) json = JSON.stringify({ value: payload })
+    const cleaned = json.includes('\\u0000') ? json.replace(NUL_ESCAPE, '$1\\ufffd') : json
+    if (cleaned !== json) problems.push('payload: character U+0000 replaced')
+    return cleaned
   } catch (error) {
     problems.push(`payload could not be serialised (${(error as Error).message})`)
     return JSON.stringify({ unserialisable: String((error as Error).message) })
@@ -52,9 +65,9 @@ function serialisePayload(payload: unknown, problems: string[]): string {
  */
 export function prepareJournalEntry(entry: JournalEntry, seq: number, key: string): { stored: JournalRecord, problems: string[] } {
   const problems: string[] = []
-  let type = String(entry.type ?? '')
+  let type = withoutNul(String(entry.type ?? ''), 'type', problems)
   if (type.length > TYPE_MAX) { problems.push(`type cut to ${TYPE_MAX} characters`); type = type.slice(0, TYPE_MAX) }
-  let subject = entry.subject == null ? null : String(entry.subject)
+  let subject = entry.subject == null ? null : withoutNul(String(entry.subject), 'subject', problems)
   if (subject !== null && subject.length > SUBJECT_MAX) { problems.push(`subject cut to ${SUBJECT_MAX} characters`); subject = subject.slice(0, SUBJECT_MAX) }
   let at = Number(entry.at)
   if (!Number.isFinite(at)) { problems.push('time was not a number; the append time is used'); at = Date.now() }

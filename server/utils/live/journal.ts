@@ -126,7 +126,10 @@ class EventJournal implements Journal {
   private spilling: Promise<void> | null = null
   private spillRetryAfter = 0
   private closing: Promise<void> | null = null
+  /** Set when close() stops writing to the database. */
   private closed = false
+  /** Set when close() has saved what was left; later entries go straight to the file. */
+  private finished = false
 
   private written = 0
   private writeFailures = 0
@@ -165,8 +168,9 @@ class EventJournal implements Journal {
       const seq = ++this.lastSeq
       const { stored, problems } = prepareJournalEntry(entry, seq, journalEntryKey(this.bootId, seq))
       if (problems.length) this.log(`Journal: entry ${stored.key} (${stored.type}): ${problems.join('; ')}`)
-      if (this.closed) return this.appendAfterClose(stored)
-      this.memory.push(stored)
+      if (this.finished) return this.appendAfterClose(stored)
+      this.memory.push(stored) // while closing, shutDown() saves it with the rest
+      if (this.closing) return
       if (this.memory.length >= this.memoryLimit) this.spillMemory()
       this.wake(this.memory.length >= this.batchSize ? 0 : this.flushIntervalMs)
     } catch (error) {
@@ -213,11 +217,19 @@ class EventJournal implements Journal {
 
   private async writeAll(drain: boolean): Promise<boolean> {
     await this.ready
-    for (let first = true; ; first = false) {
-      // After the first batch, a part batch from memory waits for the next interval unless draining.
-      const batch = await this.nextBatch(first || drain)
-      if (!batch) return true
-      if (!await this.write(batch)) return false
+    try {
+      for (let first = true; ; first = false) {
+        // After the first batch, a part batch from memory waits for the next interval unless draining.
+        const batch = await this.nextBatch(first || drain)
+        if (!batch) return true
+        if (!await this.write(batch)) return false
+      }
+    } catch (error) {
+      // A spill file that cannot be read (disk trouble): keep everything and try again later.
+      this.lastError = describe(error)
+      this.retryAfter = Date.now() + this.retryMs
+      this.log(`Journal: cannot read the spill file (${this.lastError}); retrying in ${this.retryMs} ms`)
+      return false
     }
   }
 
@@ -247,14 +259,18 @@ class EventJournal implements Journal {
       if (read.unreadable) this.log(`Journal: ${read.unreadable} unreadable line(s) in ${file.path} skipped (cut short when its writer stopped?)`)
       return read
     } catch (error) {
-      if ((error as NodeJS.ErrnoException).code === 'ENOENT') return { entries: [], end: file.size, unreadable: 0 }
-      throw error
+      // Gone (another journal finished it) or unreadable: move on so new entries are not held up by it.
+      if ((error as NodeJS.ErrnoException).code !== 'ENOENT') {
+        this.log(`Journal: cannot read ${file.path} (${describe(error)}); it is left in place for the next start`)
+        this.leftovers.shift()
+      }
+      return { entries: [], end: file.size, unreadable: 0 }
     }
   }
 
   private async finishLeftover(file: LeftoverJournalSpill, unreadable: number): Promise<void> {
     file.count = Math.max(0, file.count - unreadable)
-    this.leftovers.shift()
+    if (this.leftovers[0] === file) this.leftovers.shift()
     if (!this.closed) await removeJournalSpill(file.path)
   }
 
@@ -338,7 +354,10 @@ class EventJournal implements Journal {
     const target = this.lastSeq
     await this.ready
     while (!this.closed && (this.storedSeq < target || this.leftovers.length)) {
+      const before = [this.storedSeq, this.leftovers.length, this.leftovers[0]?.offset]
       if (!await this.pump(true)) return
+      const after = [this.storedSeq, this.leftovers.length, this.leftovers[0]?.offset]
+      if (before.every((v, i) => v === after[i])) return // nothing moved: do not spin
     }
   }
 
@@ -358,16 +377,19 @@ class EventJournal implements Journal {
     this.closed = true
     await this.spilling
     // What is still in memory (possibly also being written right now: its keys make that harmless)
-    // goes to the spill file, after what is there, for the next start to write.
-    const left = this.memory
-    if (left.length) {
+    // goes to the spill file, after what is there, for the next start to write. Entries appended
+    // meanwhile join memory and are saved by the next round.
+    while (this.memory.length) {
+      const left = this.memory
       try {
         await this.spill.append(left)
         this.dropFromMemory(this.spill.durableSeq)
       } catch (error) {
         this.log(`Journal: closed; ${left.length} entries could not be saved to ${this.spill.path}: ${describe(error)}`)
+        break
       }
     }
+    this.finished = true
     if (this.spill.waiting(this.storedSeq) > 0) {
       this.log(`Journal: closed with ${this.spill.waiting(this.storedSeq)} entries not yet stored; they stay in ${this.spill.path} for the next start`)
     }
