@@ -43,8 +43,12 @@ export BLOCKBELL_TEST_URL="http://127.0.0.1:$WEB_PORT"
 export BLOCKBELL_TEST_DATA="$RUN_DIR"
 export BLOCKBELL_TEST_MQTT_URL="mqtt://127.0.0.1:$MQTT_TEST_PORT"
 
-log "Building the app for the end-to-end tests..."
-./node_modules/.bin/nuxt build > "$RUN_DIR/build.log" 2>&1 || { tail -40 "$RUN_DIR/build.log"; die "nuxt build failed"; }
+if [ "${BLOCKBELL_TEST_SKIP_BUILD:-0}" = 1 ] && [ -f .output/server/index.mjs ]; then
+  log "Using the existing build in .output (BLOCKBELL_TEST_SKIP_BUILD=1)"
+else
+  log "Building the app for the end-to-end tests..."
+  ./node_modules/.bin/nuxt build > "$RUN_DIR/build.log" 2>&1 || { tail -40 "$RUN_DIR/build.log"; die "nuxt build failed"; }
+fi
 
 BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts up || die "migrations failed"
 BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts seed || die "seed failed"
