@@ -34,7 +34,7 @@ interface Mode {
 type Send = (p: Outgoing) => void
 type Log = (text: string) => void
 
-function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log, shutdown: (code: number) => void): Mode {
+function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log): Mode {
   const seed = o.seed ?? Date.now() % 2 ** 32
   const { plans, source } = loadPlans(layout, o.trains, o.slug, o.trainCount, seed)
   log(`seed ${seed} (repeat this run with --seed ${seed}); trains: ${source}`)
@@ -60,7 +60,6 @@ function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log, shutdow
         last = now
         emit(sim.step(dt, aspects))
       }, TICK_MS)
-      if (o.stopAfterMs !== null) setTimeout(() => shutdown(0), o.stopAfterMs).unref()
     },
     resend() {
       for (const p of sim.snapshot()) send(p)
@@ -171,6 +170,10 @@ function main(): void {
     if (stopping) return
     stopping = true
     mode?.stop()
+    if (!client.connected) {
+      client.end(true, {}, () => process.exit(code))
+      return
+    }
     client.publish(statusTopic, 'offline', { qos: 1, retain: true }, () => {
       client.end(false, {}, () => process.exit(code))
     })
@@ -181,7 +184,7 @@ function main(): void {
   try {
     const layout = loadLayout(o.layout)
     log(`layout "${layout.name}" (${o.layout}): ${layout.blocks.length} blocks, ${layout.turnouts.length} turnouts, ${layout.signals.length} signals; topics ${prefix}#`)
-    mode = o.script ? scripted(o, layout, send, log, shutdown) : simulated(o, layout, send, log, shutdown)
+    mode = o.script ? scripted(o, layout, send, log, shutdown) : simulated(o, layout, send, log)
   }
   catch (e) {
     console.error(`fake layout: ${(e as Error).message}`)
@@ -216,6 +219,7 @@ function main(): void {
   client.on('offline', () => {
     if (!stopping) log(`no connection to ${o.mqttUrl}; retrying every 2 s`)
   })
+  if (o.stopAfterMs !== null) setTimeout(() => shutdown(0), o.stopAfterMs)
   process.on('SIGINT', () => shutdown(0))
   process.on('SIGTERM', () => shutdown(0))
 }

@@ -29,7 +29,7 @@ describe('checkPlans', () => {
     ['a train longer than its first block', { lengthMm: 2000, route }, 'trains[0].lengthMm', 'does not fit in its first block FY1'],
     ['a reversal in a block too short for the train', { lengthMm: 1300, route: ['BR', 'CP'] }, 'trains[0].route[1]', 'must fit in CP (1200 mm) to reverse there'],
   ])('reports %s', (_, change, path, message) => {
-    const errors = checkPlans(layout, [plan({ headcode: '1F42', lengthMm: 600, speedKmh: 40, route, ...change })])
+    const errors = checkPlans(layout, [plan(Object.assign({ headcode: '1F42', lengthMm: 600, speedKmh: 40, route }, change))])
     expect(errors.map((e) => e.path)).toContain(path)
     expect(errors.find((e) => e.path === path)!.message).toContain(message)
   })
