@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Database } from '../../server/database/connection'
 import { createJournal, type Journal, type JournalOptions, type JournalStats } from '../../server/utils/live/journal'
 import { startThrowawayPostgres, type ThrowawayPostgres } from '../support/postgres'
-import { freshLayout, numbered, range, scratchDir, sleep, storedRows, waitUntil } from '../support/journal-checks'
+import { freshLayout, numbered, range, removeScratchDirs, scratchDir, sleep, storedRows, waitUntil } from '../support/journal-checks'
 
 let cluster: ThrowawayPostgres
 let db: Database
@@ -18,6 +18,7 @@ beforeAll(async () => {
 afterAll(async () => {
   await db?.sequelize.close()
   await cluster?.destroy()
+  removeScratchDirs()
 })
 
 function journal(options: Partial<JournalOptions> = {}): Journal {

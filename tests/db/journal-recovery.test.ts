@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Database } from '../../server/database/connection'
 import { createJournal, type Journal, type JournalOptions, type JournalStats } from '../../server/utils/live/journal'
 import { freePort, startThrowawayPostgres, type ThrowawayPostgres } from '../support/postgres'
-import { freshLayout, numbered, range, scratchDir, storedRows, waitUntil } from '../support/journal-checks'
+import { freshLayout, numbered, range, removeScratchDirs, scratchDir, storedRows, waitUntil } from '../support/journal-checks'
 
 const REPO = resolve(import.meta.dirname, '../..')
 let cluster: ThrowawayPostgres
@@ -23,6 +23,7 @@ afterAll(async () => {
   for (const child of children) child.kill('SIGKILL')
   await db?.sequelize.close()
   await cluster?.destroy()
+  removeScratchDirs()
 })
 
 function journal(options: Partial<JournalOptions> & { spillDir: string }): Journal {

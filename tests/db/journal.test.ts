@@ -8,7 +8,7 @@ import { journalEntryKey, newJournalBootId, prepareJournalEntry } from '../../se
 import { writeJournalBatch } from '../../server/utils/live/journal-insert'
 import { connectWithoutModels, startThrowawayPostgres, type ThrowawayPostgres } from '../support/postgres'
 import { startPostgresProxy } from '../support/postgres-proxy'
-import { freshLayout, numbered, range, scratchDir, storedRows, waitUntil, writeGroups } from '../support/journal-checks'
+import { freshLayout, numbered, range, removeScratchDirs, scratchDir, storedRows, waitUntil, writeGroups } from '../support/journal-checks'
 
 let cluster: ThrowawayPostgres
 let db: Database
@@ -28,6 +28,7 @@ afterAll(async () => {
   for (const j of journals) await j.close()
   await db?.sequelize.close()
   await cluster?.destroy()
+  removeScratchDirs()
 })
 
 describe('event journal: order and batches', () => {

@@ -44,11 +44,17 @@ export async function waitUntil(condition: () => boolean | Promise<boolean>, wha
 
 export const sleep = (ms: number) => new Promise(done => setTimeout(done, ms))
 
-/** A new empty folder, removed when the test process exits. */
+const scratchDirs: string[] = []
+
+/** A new empty folder; removeScratchDirs() (in afterAll) deletes it. */
 export function scratchDir(name: string): string {
   const dir = mkdtempSync(join(process.env.BLOCKBELL_TEST_DATA ?? tmpdir(), `${name}-`))
-  process.once('exit', () => rmSync(dir, { recursive: true, force: true }))
+  scratchDirs.push(dir)
   return dir
+}
+
+export function removeScratchDirs(): void {
+  for (const dir of scratchDirs.splice(0)) rmSync(dir, { recursive: true, force: true })
 }
 
 let layoutCount = 0
