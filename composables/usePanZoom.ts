@@ -1,4 +1,4 @@
-interface Size { width: number, height: number }
+interface Box { x: number, y: number, width: number, height: number }
 interface Pt { x: number, y: number }
 
 const MIN_FACTOR = 0.5
@@ -7,11 +7,11 @@ const MAX_FACTOR = 12
 const TAP_SLOP = 6
 
 /**
- * Pan (drag), pinch-zoom (two pointers), wheel zoom and fit-to-screen for an SVG drawing of `content` size
- * shown in `el`. Works on the pointer events of `el`; a drag swallows the click that follows it, so dragging
+ * Pan (drag), pinch-zoom (two pointers), wheel zoom and fit-to-screen (of the `content` box) for an SVG
+ * drawing shown in `el`. Works on the pointer events of `el`; a drag swallows the click that follows it, so dragging
  * across a signal does not open it.
  */
-export function usePanZoom(el: Ref<HTMLElement | null>, content: Ref<Size>) {
+export function usePanZoom(el: Ref<HTMLElement | null>, content: Ref<Box>) {
   const scale = ref(1)
   const tx = ref(0)
   const ty = ref(0)
@@ -29,11 +29,11 @@ export function usePanZoom(el: Ref<HTMLElement | null>, content: Ref<Size>) {
   function fit() {
     const box = el.value?.getBoundingClientRect()
     if (!box || box.width === 0 || box.height === 0) return
-    const { width, height } = content.value
-    fitScale = Math.min(box.width / width, box.height / height) * 0.96
+    const { x, y, width, height } = content.value
+    fitScale = Math.min(box.width / width, box.height / height) * 0.98
     scale.value = fitScale
-    tx.value = (box.width - width * fitScale) / 2
-    ty.value = (box.height - height * fitScale) / 2
+    tx.value = (box.width - width * fitScale) / 2 - x * fitScale
+    ty.value = (box.height - height * fitScale) / 2 - y * fitScale
     userMoved = false
   }
 

@@ -91,3 +91,27 @@ export const AREA_DASHES = ['', '18 8', '6 6', '2 6']
 export function nameOf(list: { id: string, name: string }[] | undefined, id: string): string {
   return list?.find(x => x.id === id)?.name ?? id
 }
+
+export interface Bounds { x: number, y: number, width: number, height: number }
+
+/**
+ * The part of the drawing that holds something (tracks, signals, turnouts, labels), with a margin, inside
+ * the drawing area: fitting this rather than the whole drawing area makes the most of the screen.
+ */
+export function contentBounds(def: Layout, margin = 40): Bounds {
+  const d = def.diagram
+  const points: Point[] = [
+    ...Object.values(d.blocks).flatMap(b => b.path),
+    ...Object.values(d.signals).map(s => s.at),
+    ...Object.values(d.turnouts).map(t => t.at),
+    ...d.labels.map(l => l.at),
+  ]
+  if (points.length === 0) return { x: 0, y: 0, width: d.width, height: d.height }
+  const xs = points.map(p => p[0])
+  const ys = points.map(p => p[1])
+  const x = Math.max(0, Math.min(...xs) - margin)
+  const y = Math.max(0, Math.min(...ys) - margin)
+  const right = Math.min(d.width, Math.max(...xs) + margin)
+  const bottom = Math.min(d.height, Math.max(...ys) + margin)
+  return { x, y, width: Math.max(1, right - x), height: Math.max(1, bottom - y) }
+}

@@ -107,7 +107,7 @@ describe('area bar', () => {
     const main = w.find('[data-test="area-main"]')
     expect(main.find('[data-test="holder"]').text()).toBe('held by you')
     expect(main.find('[data-test="release"]').exists()).toBe(true)
-    expect(main.findAll('[data-test="handover-to"] option').map(o => o.text())).toEqual(['Hand over to…', 'Ada Wrenfield', 'Rhea Lintwhistle'])
+    expect(main.findAll('[data-test="handover-to"] option').map(o => o.text())).toEqual(['Hand to…', 'Ada Wrenfield', 'Rhea Lintwhistle'])
     const branch = w.find('[data-test="area-branch"]')
     await branch.find('[data-test="take"]').trigger('click')
     await expect.poll(() => server!.commands().map(c => c.command)).toEqual([{ action: 'take-area', area: 'branch' }])
