@@ -59,6 +59,8 @@ export class LiveService {
   runtime(slug: string): LayoutRuntime | undefined { return this.runtimes.get(slug) }
 
   private async start(): Promise<void> {
+    // Entries a previous run left in the spill file go in first, so the restored state includes them.
+    await this.journal.flush()
     await this.loadLayouts()
     const internal = { username: 'blockbell-server', password: randomBytes(24).toString('hex') }
     let url = this.settings.mqttUrl
