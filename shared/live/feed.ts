@@ -2,6 +2,8 @@ import type { Layout } from '../schemas/layout'
 import type { FeedEntry, LiveChange } from './protocol'
 
 /** Display names of a layout's items, falling back to the id. */
+export type LayoutNames = ReturnType<typeof namesOf>
+
 export function namesOf(layout: Layout) {
   const block = new Map(layout.blocks.map(b => [b.id, b.name]))
   const signal = new Map(layout.signals.map(s => [s.id, s.name]))
@@ -15,10 +17,9 @@ export function namesOf(layout: Layout) {
 
 /**
  * One line for the panel's feed of latest events, or null for changes too small to list (single
- * detector and indication changes are shown on the diagram itself).
+ * detector and indication changes are shown on the diagram itself). `n` comes from namesOf(layout), made once.
  */
-export function describeChange(layout: Layout, change: LiveChange, userName: (id: string | undefined) => string | null, at: number): FeedEntry | null {
-  const n = namesOf(layout)
+export function describeChange(n: LayoutNames, change: LiveChange, userName: (id: string | undefined) => string | null, at: number): FeedEntry | null {
   const by = (id: string | undefined) => { const name = userName(id); return name ? ` by ${name}` : '' }
   switch (change.type) {
     case 'alarm':

@@ -1,7 +1,7 @@
 import type { Layout } from '../../../shared/schemas/layout'
 import { createEngine, type Change, type Engine, type LayoutEvent, type LayoutState } from '../../../shared/signalling'
 import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveCommand, LiveSession, LiveUser, ServerMessage } from '../../../shared/live/protocol'
-import { describeChange, namesOf } from '../../../shared/live/feed'
+import { describeChange, namesOf, type LayoutNames } from '../../../shared/live/feed'
 import { roleAtLeast } from '../../../shared/utils/roles'
 import { indexAreas, mayInterpose, mayOperate, type AreaIndex, type Verdict } from './areas'
 import { DetectorDebounce } from './detector-debounce'
@@ -38,7 +38,7 @@ export class LayoutRuntime {
   private readonly engine: Engine
   private readonly debounce: DetectorDebounce
   private readonly areaIndex: AreaIndex
-  private readonly names: ReturnType<typeof namesOf>
+  private readonly names: LayoutNames
   private readonly detectorBlock: Map<string, string>
   private readonly now: () => number
   private seq = 0
@@ -231,7 +231,7 @@ export class LayoutRuntime {
     const block = this.detectorBlock.get(detector)!
     this.dropouts = { ...this.dropouts, [block]: at }
     const change: LiveChange = { type: 'dropout', block, detector, at }
-    const entry = describeChange(this.layout, change, () => null, at)
+    const entry = describeChange(this.names, change, () => null, at)
     this.emit([change, ...(entry ? [{ type: 'feed', entry: this.pushFeed(entry) } as LiveChange] : [])], { type: 'dropout', subject: block, payload: { detector }, userId: null, at })
   }
 
@@ -241,7 +241,7 @@ export class LayoutRuntime {
     const live: LiveChange[] = [...changes]
     for (const change of changes) {
       if (change.type === 'indication') this.deps.publish(signalTopic(this.slug, change.signal), signalPayload(change.indication, at), true)
-      const entry = describeChange(this.layout, change, id => this.userName(id, user), at)
+      const entry = describeChange(this.names, change, id => this.userName(id, user), at)
       if (entry) live.push({ type: 'feed', entry: this.pushFeed(entry) })
     }
     this.emit(live, journal, changes)

@@ -3,6 +3,7 @@ import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
 import { applyEvent, computeIndications, createEngine, initialState, validateLayout } from '../../../shared/signalling'
 import type { Change, Layout, LayoutEvent, LayoutState } from '../../../shared/signalling'
+import { run } from './build'
 
 type Kind = 'two-aspect' | 'three-aspect' | 'four-aspect' | 'distant'
 const KINDS: Kind[] = ['two-aspect', 'three-aspect', 'four-aspect', 'distant']
@@ -228,31 +229,11 @@ describe('applyEvent on random layouts and event sequences', () => {
   it('gives the same state and changes when the same events are replayed', () => {
     fc.assert(
       fc.property(scenarioArb, ([layout, events]) => {
-        const play = () => {
-          let state = initialState(layout)
-          const changes: Change[] = []
-          for (const e of events) {
-            const r = applyEvent(layout, state, e)
-            state = r.state
-            changes.push(...r.changes)
-          }
-          return { state, changes }
-        }
         // the second replay uses a copy of the layout: nothing may depend on object identity
-        const a = play()
-        const b = (() => {
-          const copy = structuredClone(layout)
-          let state = initialState(copy)
-          const changes: Change[] = []
-          for (const e of events) {
-            const r = applyEvent(copy, state, e)
-            state = r.state
-            changes.push(...r.changes)
-          }
-          return { state, changes }
-        })()
+        const a = run(layout, events)
+        const b = run(structuredClone(layout), events)
         expect(b).toEqual(a)
-        expect(play()).toEqual(a)
+        expect(run(layout, events)).toEqual(a)
       }),
       RUNS,
     )
