@@ -62,8 +62,10 @@ export class PanelConnection {
     if (!runtime) return this.send({ type: 'error', message: `layout: there is no live layout "${slug}".` })
     this.leave()
     this.slug = slug
+    // Snapshot first (it sends any queued delta to the others), then join: the next delta follows it.
+    const snapshot = runtime.snapshot()
     this.live.hub.join(slug, this.peer)
-    this.send(runtime.snapshot())
+    this.send(snapshot)
     runtime.connect(this.user)
   }
 
