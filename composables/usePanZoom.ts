@@ -103,6 +103,11 @@ export function usePanZoom(el: Ref<HTMLElement | null>, content: Ref<Box>) {
     zoomAt(Math.exp(-e.deltaY * 0.0015), local(e))
   }
 
+  /** A point in `el` (px from its top left corner) in drawing units. */
+  function toContent(x: number, y: number): [number, number] {
+    return [(x - tx.value) / scale.value, (y - ty.value) / scale.value]
+  }
+
   function panBy(dx: number, dy: number) {
     tx.value += dx
     ty.value += dy
@@ -126,5 +131,5 @@ export function usePanZoom(el: Ref<HTMLElement | null>, content: Ref<Box>) {
   watch(content, fit)
 
   const handlers = { pointerdown: onPointerDown, pointermove: onPointerMove, pointerup: onPointerUp, pointercancel: onPointerUp }
-  return { transform, unitsPerPx, scale, fit, zoomAt, panBy, handlers, onClickCapture }
+  return { transform, unitsPerPx, scale, fit, zoomAt, panBy, toContent, handlers, onClickCapture }
 }

@@ -115,3 +115,143 @@ export function contentBounds(def: Layout, margin = 40): Bounds {
   const bottom = Math.min(d.height, Math.max(...ys) + margin)
   return { x, y, width: Math.max(1, right - x), height: Math.max(1, bottom - y) }
 }
+
+/**
+ * How much the marks (lamps, tags, berths, names) are enlarged at zoom `scale` (screen px per drawing unit),
+ * so that they keep a readable size on the screen when the drawing is fitted small: marks are drawn at
+ * `1/scale` (one mark unit = one screen pixel), never smaller than in the drawing, and at most `max` times it
+ * (a very large layout fitted on a small screen would otherwise be covered by its own marks).
+ */
+export function markScale(scale: number, max = 2.4): number {
+  if (!(scale > 0)) return 1
+  return Math.min(Math.max(1 / scale, 1), max)
+}
+
+/** Sizes of the marks in mark units (screen pixels at the fitted zoom, see markScale). */
+export const MARK = {
+  lamp: 12.5,
+  signalText: 13,
+  tag: 11,
+  tagOffset: 21,
+  berthHeight: 21,
+  berthText: 14,
+  labelText: 13,
+} as const
+
+/** Width in mark units of a berth holding `description` (an empty berth is a small box). */
+export function berthWidth(description: string | null): number {
+  return Math.max(30, (description?.length ?? 0) * 9 + 12)
+}
+
+function segmentDistance(p: Point, a: Point, b: Point): number {
+  const dx = b[0] - a[0]
+  const dy = b[1] - a[1]
+  const len2 = dx * dx + dy * dy
+  const t = len2 === 0 ? 0 : Math.min(1, Math.max(0, ((p[0] - a[0]) * dx + (p[1] - a[1]) * dy) / len2))
+  return Math.hypot(p[0] - (a[0] + t * dx), p[1] - (a[1] + t * dy))
+}
+
+// after the side away from the track: beside the lamp, then slantwise, then the other side of the track
+const COMPASS: Point[] = [[-1, 0], [1, 0], [-0.71, -0.71], [0.71, -0.71], [-0.71, 0.71], [0.71, 0.71], [0, -1], [0, 1]]
+
+/**
+ * Which way from a signal's lamp its name is written, as a unit vector: away from the nearest track, or, when
+ * the name would land on another track there or off the drawing, the first of the other directions that keeps
+ * it clear (`reach` drawing units out, `clearance` from any track and from the drawing's edge).
+ */
+export function signalLabelDirections(def: Layout, reach = 40, clearance = 16): Record<string, Point> {
+  const segments: [Point, Point][] = []
+  for (const b of Object.values(def.diagram.blocks)) {
+    for (let i = 1; i < b.path.length; i++) segments.push([b.path[i - 1]!, b.path[i]!])
+  }
+  const near = (p: Point, r: number) => segments.filter(([a, b]) =>
+    p[0] >= Math.min(a[0], b[0]) - r && p[0] <= Math.max(a[0], b[0]) + r && p[1] >= Math.min(a[1], b[1]) - r && p[1] <= Math.max(a[1], b[1]) + r)
+  const gap = (p: Point, list: [Point, Point][]) => list.reduce((m, [a, b]) => Math.min(m, segmentDistance(p, a, b)), Infinity)
+  const out: Record<string, Point> = {}
+  for (const [id, s] of Object.entries(def.diagram.signals)) {
+    const local = near(s.at, reach * 2)
+    let away: Point = [0, -1]
+    let best = Infinity
+    for (const [a, b] of local) {
+      const d = segmentDistance(s.at, a, b)
+      if (d < best) {
+        best = d
+        const dx = b[0] - a[0]
+        const dy = b[1] - a[1]
+        const len2 = dx * dx + dy * dy || 1
+        const t = Math.min(1, Math.max(0, ((s.at[0] - a[0]) * dx + (s.at[1] - a[1]) * dy) / len2))
+        const fx = s.at[0] - (a[0] + t * dx)
+        const fy = s.at[1] - (a[1] + t * dy)
+        const len = Math.hypot(fx, fy)
+        // on the track itself: the left-hand side of the direction of travel
+        if (len > 0.5) away = [fx / len, fy / len]
+        else {
+          const [vx, vy] = facingVector(s.facing)
+          away = [vy, -vx]
+        }
+      }
+    }
+    const candidates = [away, ...COMPASS]
+    let chosen = away
+    let chosenGap = -1
+    for (const c of candidates) {
+      const p: Point = [s.at[0] + c[0] * reach, s.at[1] + c[1] * reach]
+      const edge = Math.min(p[0], p[1], def.diagram.width - p[0], def.diagram.height - p[1])
+      const g = Math.min(gap(p, local), edge)
+      if (g >= clearance) {
+        chosen = c
+        break
+      }
+      if (g > chosenGap) {
+        chosen = c
+        chosenGap = g
+      }
+    }
+    out[id] = chosen
+  }
+  return out
+}
+
+/** Something on the diagram a tap can open, with where it is drawn (drawing units). */
+export type Mark =
+  | { key: string, at: Point, r: number }
+  | { key: string, box: { x: number, y: number, width: number, height: number } }
+
+/** Distance from `p` to a mark's drawn shape (0 inside it). */
+export function markDistance(m: Mark, p: Point): number {
+  if ('box' in m) {
+    const dx = Math.max(m.box.x - p[0], 0, p[0] - (m.box.x + m.box.width))
+    const dy = Math.max(m.box.y - p[1], 0, p[1] - (m.box.y + m.box.height))
+    return Math.hypot(dx, dy)
+  }
+  return Math.max(0, Math.hypot(m.at[0] - p[0], m.at[1] - p[1]) - m.r)
+}
+
+function markCentre(m: Mark): Point {
+  return 'box' in m ? [m.box.x + m.box.width / 2, m.box.y + m.box.height / 2] : m.at
+}
+
+/**
+ * The key of the mark nearest to a tap at `p`, if one is within `radius` (drawing units) of its shape; where
+ * shapes overlap, the one whose centre is nearer wins.
+ */
+export function nearestMark(marks: Iterable<Mark>, p: Point, radius: number): string | null {
+  let best: string | null = null
+  let bestScore = Infinity
+  for (const m of marks) {
+    const d = markDistance(m, p)
+    if (d > radius) continue
+    const c = markCentre(m)
+    const score = d + 0.1 * Math.hypot(c[0] - p[0], c[1] - p[1])
+    if (score < bestScore) {
+      best = m.key
+      bestScore = score
+    }
+  }
+  return best
+}
+
+/** Which side of a turnout's point its tag goes: +1 below, -1 above, away from where its legs run. */
+export function turnoutTagSide(at: Point, legs: { normal: [Point, Point], reverse: [Point, Point] }): number {
+  return legs.normal[1][1] + legs.reverse[1][1] - 2 * at[1] > 0 ? -1 : 1
+}

@@ -211,12 +211,13 @@ describe('the Panel with three people on one layout (Debian chromium)', () => {
     expect(await sheet.getByRole('button', { name: /hold|auto|clear/i }).count()).toBe(0)
     await sheet.getByTestId('sheet-close').click()
 
-    const t4 = await page.getByTestId('turnout-T4').getAttribute('data-position')
-    await page.getByTestId('turnout-T4').click()
+    const t5 = await page.getByTestId('turnout-T5').getAttribute('data-position')
+    await page.getByTestId('turnout-T5').getByTestId('turnout-tag').click()
     const turnoutSheet = page.getByTestId('turnout-sheet')
+    expect(await turnoutSheet.getAttribute('aria-label')).toBe('Turnout T5')
     await expect.poll(() => turnoutSheet.getByTestId('no-control-reason').textContent(), POLL).toBe('Tam Oakridge holds Main line; only the holder works this turnout.')
     expect(await turnoutSheet.getByTestId('throw').count()).toBe(0)
-    expect(await page.getByTestId('turnout-T4').getAttribute('data-position')).toBe(t4)
+    expect(await page.getByTestId('turnout-T5').getAttribute('data-position')).toBe(t5)
     await turnoutSheet.getByTestId('sheet-close').click()
 
     await page.getByTestId('berth-UM1').click()
@@ -234,13 +235,47 @@ describe('the Panel with three people on one layout (Debian chromium)', () => {
     expect(await page.getByTestId('area-main').getByTestId('area-note').textContent()).toBe('Viewers watch only.')
     expect(await page.getByTestId('area-branch').getByRole('button').count()).toBe(0)
     for (const [item, sheetId] of [['signal-SF1', 'signal-sheet'], ['turnout-T4', 'turnout-sheet'], ['berth-UM2', 'interpose-dialog']] as const) {
-      await page.getByTestId(item).click()
+      await (item.startsWith('turnout-') ? page.getByTestId(item).getByTestId('turnout-tag') : page.getByTestId(item)).click()
       const sheet = page.getByTestId(sheetId)
       await expect.poll(() => sheet.getByTestId('no-control-reason').textContent(), POLL).toBe('You are signed in as a viewer: you can watch, not operate.')
       expect(await sheet.locator('button:not([data-test="sheet-close"]), input, select').count(), item).toBe(0)
       await sheet.getByTestId('sheet-close').click()
       await expect.poll(() => page.getByTestId(sheetId).count(), POLL).toBe(0)
     }
+  })
+
+  it('at 1024x768 a tap on the middle of each turnout (its tag, and all it draws) and of each signal lamp opens that one, not a neighbour', async () => {
+    const { page } = viewer
+    await page.setViewportSize({ width: 1024, height: 768 })
+    await page.waitForTimeout(400) // the diagram fits itself to the new size
+    const centre = async (sel: ReturnType<Page['locator']>) => {
+      const box = (await sel.boundingBox())!
+      return { x: box.x + box.width / 2, y: box.y + box.height / 2 }
+    }
+    /** Taps at `at` and returns what opened: the sheet's title | the line under it. */
+    const tap = async (at: { x: number, y: number }) => {
+      await page.mouse.click(at.x, at.y)
+      const sheet = page.locator('[role="dialog"]')
+      await sheet.waitFor({ timeout: 2000 }).catch(() => {})
+      const opened = await sheet.count() ? `${await sheet.getAttribute('aria-label')} | ${await sheet.locator('header p').first().textContent()}` : 'nothing'
+      if (await sheet.count()) await sheet.getByTestId('sheet-close').click()
+      await expect.poll(() => page.locator('[role="dialog"]').count(), POLL).toBe(0)
+      return opened
+    }
+    const wrong: string[] = []
+    for (const t of before.definition.turnouts) {
+      const opened = await tap(await centre(page.getByTestId(`turnout-${t.id}`).getByTestId('turnout-tag')))
+      if (!opened.startsWith(`Turnout ${t.id} |`)) wrong.push(`tag of ${t.id} opened ${opened}`)
+      // the middle of all it draws (legs and tag)
+      const whole = await tap(await centre(page.getByTestId(`turnout-${t.id}`)))
+      if (!whole.startsWith(`Turnout ${t.id} |`)) wrong.push(`middle of ${t.id} opened ${whole}`)
+    }
+    for (const sig of before.definition.signals) {
+      const opened = await tap(await centre(page.getByTestId(`signal-${sig.id}`).locator('[class^="bb-lamp-"]')))
+      if (!new RegExp(`\\| Signal ${sig.id}(?![0-9A-Za-z])`).test(opened)) wrong.push(`lamp of ${sig.id} opened ${opened}`)
+    }
+    expect(wrong).toEqual([])
+    await page.setViewportSize({ width: 1280, height: 800 })
   })
 
   it('the fake layout moves a train up the main line: occupancy, aspects and the description step on all three panels', async () => {

@@ -126,4 +126,27 @@ describe('PanelDiagram', () => {
     expect(w.emitted('turnout')).toEqual([['T2']])
     expect(w.emitted('berth')).toEqual([['UM2']])
   })
+
+  it('flashes only the ring of a held signal: its lamp and shape stay lit and readable', async () => {
+    const run = new DemoRun()
+    run.hold('SU1')
+    const w = await mountDiagram(run)
+    const flashing = w.findAll('[data-test="signal-SU1"] .bb-flash')
+    expect(flashing.map(f => f.attributes('data-test'))).toEqual(['held-ring'])
+    expect(w.find('[data-test="signal-SU1"] [data-test="cue"]').element.closest('.bb-flash')).toBeNull()
+    expect(w.find('[data-test="signal-SU1"] .bb-lamp-danger').element.closest('.bb-flash')).toBeNull()
+  })
+
+  it('draws one ring, round the item whose control is open, and none when nothing is open', async () => {
+    const run = new DemoRun()
+    const none = await mountDiagram(run)
+    expect(none.findAll('[data-test="focus-ring"]')).toHaveLength(0)
+    const w = await mountDiagram(run, { selected: 'turnout:T2' })
+    expect(w.findAll('[data-test="focus-ring"]')).toHaveLength(1)
+    // every item still takes focus and has a name
+    for (const el of w.findAll('[data-item]')) {
+      expect(el.attributes('tabindex')).toBe('0')
+      expect(el.attributes('aria-label')).toBeTruthy()
+    }
+  })
 })

@@ -1,6 +1,6 @@
 // Drawing helpers checked against the demo layout's own drawing data (shared/layouts/demo-layout.json).
 import { describe, expect, it } from 'vitest'
-import { blockAreaIndex, contentBounds, turnoutLegs } from '../../../shared/live/diagram'
+import { blockAreaIndex, contentBounds, markDistance, markScale, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagSide, MARK, type Mark } from '../../../shared/live/diagram'
 import { demoLayout } from '../../support/live-fixtures'
 
 const def = demoLayout()
@@ -44,5 +44,67 @@ describe('blockAreaIndex', () => {
     expect(index.UM2).toBe(1) // SU1, Branch & station
     expect(index.DM4).toBe(0) // T6 (Main line) comes before SD3 (Branch & station)
     expect(index.FY1).toBeUndefined()
+  })
+})
+
+describe('markScale', () => {
+  it('draws marks at screen size when the drawing is fitted small, never smaller than drawn, and caps the growth', () => {
+    expect(markScale(0.5)).toBe(2)
+    expect(markScale(2)).toBe(1)
+    expect(markScale(0.1)).toBe(2.4)
+    // a lamp keeps at least 24 screen px across at the tablet sizes' fitted zoom (about 0.45 to 0.75)
+    for (const scale of [0.45, 0.57, 0.75]) expect(2 * MARK.lamp * markScale(scale) * scale).toBeGreaterThanOrEqual(24)
+  })
+})
+
+describe('nearestMark', () => {
+  const marks: Mark[] = [
+    { key: 'signal:A', at: [100, 100], r: 20 },
+    { key: 'turnout:T', at: [140, 100], r: 15 },
+    { key: 'block:B', box: { x: 200, y: 90, width: 60, height: 20 } },
+  ]
+  it('picks the mark whose shape is nearest the tap, not the one drawn last', () => {
+    expect(nearestMark(marks, [128, 100], 10)).toBe('turnout:T')
+    expect(nearestMark(marks, [112, 100], 10)).toBe('signal:A')
+    expect(nearestMark(marks, [240, 95], 10)).toBe('block:B')
+    expect(nearestMark([...marks].reverse(), [128, 100], 10)).toBe('turnout:T')
+  })
+  it('picks nothing beyond the reach of every mark', () => {
+    expect(nearestMark(marks, [100, 200], 10)).toBeNull()
+    expect(markDistance(marks[2]!, [190, 100])).toBe(10)
+  })
+})
+
+describe('the demo drawing at the fitted zoom of a tablet', () => {
+  // marks at the tablet sizes' smallest fitted zoom, in drawing units
+  const k = markScale(0.55)
+  const tagOf = (id: string) => {
+    const at = def.diagram.turnouts[id]!.at
+    return [at[0], at[1] + turnoutTagSide(at, turnoutLegs(def, id)!) * MARK.tagOffset * k] as [number, number]
+  }
+  it('keeps every turnout tag clear of every signal lamp, so a tap on one cannot land on the other', () => {
+    for (const t of def.turnouts) {
+      const tag = tagOf(t.id)
+      for (const [s, { at }] of Object.entries(def.diagram.signals)) {
+        expect(Math.hypot(tag[0] - at[0], tag[1] - at[1]), `${t.id} and ${s}`).toBeGreaterThan((MARK.tag + MARK.lamp) * k)
+      }
+    }
+  })
+  it('keeps the signal lamps apart from each other', () => {
+    const all = Object.entries(def.diagram.signals)
+    for (const [a, sa] of all) {
+      for (const [b, sb] of all) {
+        if (a < b) expect(Math.hypot(sa.at[0] - sb.at[0], sa.at[1] - sb.at[1]), `${a} and ${b}`).toBeGreaterThan(2 * MARK.lamp * k)
+      }
+    }
+  })
+  it('writes each signal id on the side of its lamp away from the track', () => {
+    const dirs = signalLabelDirections(def)
+    expect(dirs.SU1).toEqual([0, -1]) // above the up main
+    expect(dirs.SD2).toEqual([0, 1]) // below the down main
+    // SF2 stands below the lowest fiddle road, near the drawing's bottom edge: its id goes beside it instead
+    const sf2 = dirs.SF2!
+    expect(def.diagram.signals.SF2!.at[1] + sf2[1] * 40).toBeLessThan(def.diagram.height - 16)
+    for (const v of Object.values(dirs)) expect(Math.hypot(v[0], v[1])).toBeCloseTo(1, 1)
   })
 })
