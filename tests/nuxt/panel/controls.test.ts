@@ -1,7 +1,7 @@
 // Role-dependent controls (DESIGN.md "Roles"): only a signaller or admin holding the area works its
 // signals and turnouts; others read who holds it; viewers get no controls at all. The panel talks to a
 // test /live server over a real WebSocket; states come from the real engine on the demo layout.
-import { afterEach, describe, expect, it } from 'vitest'
+import { afterEach, describe, expect, it, vi } from 'vitest'
 import { mountSuspended } from '@nuxt/test-utils/runtime'
 import { flushPromises } from '@vue/test-utils'
 import PanelSignalSheet from '~/components/panel/PanelSignalSheet.vue'
@@ -139,5 +139,36 @@ describe('area bar', () => {
     const asMilo = await mountSuspended(PanelAreaBar, { props: { areas: ctx.run.layout.areas } })
     expect(asMilo.findAll('button')).toHaveLength(0)
     expect(asMilo.find('[data-test="area-main"] [data-test="holder"]').text()).toBe('held by Tam Oakridge')
+  })
+})
+
+describe('area command results', () => {
+  it('lets "done" go after a few seconds and keeps a refusal with its reason until the next action', async () => {
+    signIn(TAM)
+    const ctx = await goLive(held({}))
+    server = ctx.server
+    const w = await mountSuspended(PanelAreaBar, { props: { areas: ctx.run.layout.areas } })
+    const live = useLiveStore()
+    const record = (id: string, status: 'done' | 'refused', reason: string | null = null) => ({
+      id, command: { action: 'take-area' as const, area: 'main' }, target: 'area:main', label: 'Take Main line', status, reason, at: Date.now(),
+    })
+    vi.useFakeTimers({ toFake: ['setTimeout', 'clearTimeout'] })
+    try {
+      live.commands.unshift(record('c1', 'done'))
+      await flushPromises()
+      expect(w.find('[data-test="area-main"] [data-test="command-done"]').exists()).toBe(true)
+      vi.advanceTimersByTime(4100)
+      await flushPromises()
+      await expect.poll(() => w.find('[data-test="area-main"] [data-test="command-done"]').exists()).toBe(false)
+
+      live.commands.unshift(record('c2', 'refused', 'Rhea Lintwhistle took it first.'))
+      await flushPromises()
+      vi.advanceTimersByTime(60_000)
+      await flushPromises()
+      expect(w.find('[data-test="area-main"] [data-test="command-refused"]').text()).toContain('Rhea Lintwhistle took it first.')
+    }
+    finally {
+      vi.useRealTimers()
+    }
   })
 })
