@@ -21,6 +21,7 @@ SERVER_PID=
 FAKE_PID=
 cleanup() {
   local rc=$?
+  set +e # stop everything even when a process has already gone (Ctrl-C reaches them all)
   trap - INT TERM EXIT
   if [ -n "$FAKE_PID" ]; then kill -TERM "$FAKE_PID" 2>/dev/null; log "Fake layout stopped"; fi
   if [ -n "$SERVER_PID" ] && kill -0 "$SERVER_PID" 2>/dev/null; then
