@@ -9,5 +9,9 @@ export default defineNitroPlugin((nitroApp) => {
       if (pending.length) console.warn(`[blockbell] database migrations pending: ${pending.map(m => m.name).join(', ')} (run npm run db:migrate)`)
     })
     .catch((error: Error) => console.error(`[blockbell] database not reachable at start-up: ${error.message}`))
-  nitroApp.hooks.hook('close', closeDatabase)
+  // The live side writes its last journal entries on close: close it before the pool it writes through.
+  nitroApp.hooks.hook('close', async () => {
+    await closeLive()
+    await closeDatabase()
+  })
 })
