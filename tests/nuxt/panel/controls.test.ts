@@ -117,6 +117,18 @@ describe('area bar', () => {
     expect(server.commands()[1]!.command).toEqual({ action: 'hand-over', area: 'main', to: RHEA.id })
   })
 
+  it('says why an area cannot be handed over when no other signaller is connected', async () => {
+    signIn(TAM)
+    const run = held({ main: TAM })
+    run.operators = [TAM, MILO]
+    const ctx = await goLive(run)
+    server = ctx.server
+    const w = await mountSuspended(PanelAreaBar, { props: { areas: ctx.run.layout.areas } })
+    const main = w.find('[data-test="area-main"]')
+    expect(main.find('[data-test="handover-to"]').exists()).toBe(false)
+    expect(main.find('[data-test="handover-none"]').text()).toBe('To hand over, another signaller must be connected.')
+  })
+
   it('shows others who holds an area, gives an admin force-release, and a viewer nothing to press', async () => {
     signIn(RHEA)
     const ctx = await goLive(held({ main: TAM }))
