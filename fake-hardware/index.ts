@@ -1,6 +1,6 @@
 import mqtt from 'mqtt'
-import type { Aspect } from '../shared/signalling'
-import type { Layout } from '../shared/schemas/layout'
+import type { Aspect } from '#shared/signalling'
+import type { Layout } from '#shared/schemas/layout'
 import { loadLayout, loadPlans, loadScript } from './load'
 import { parseIndication, parseTurnoutRequest, relativeTopic } from './messages'
 import { parseOptions, USAGE, type FakeOptions } from './options'

@@ -1,4 +1,4 @@
-import type { Aspect } from '../shared/signalling'
+import type { Aspect } from '#shared/signalling'
 
 /** Parsing of what the fake layout receives from Blockbell over MQTT. Bad payloads give null, never throw. */
 

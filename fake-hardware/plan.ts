@@ -1,6 +1,6 @@
 import { z } from 'zod'
-import { ItemId, type Layout } from '../shared/schemas/layout'
-import { onward, topologyOf } from '../shared/signalling/topology'
+import { ItemId, type Layout } from '#shared/schemas/layout'
+import { onward, topologyOf } from '#shared/signalling/topology'
 import type { Random } from './random'
 
 /**

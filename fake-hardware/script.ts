@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import type { Layout } from '../shared/schemas/layout'
+import type { Layout } from '#shared/schemas/layout'
 
 /**
  * Scripted mode: a JSON file of timed publishes, sent in file order.

@@ -3,8 +3,8 @@
 // loops), runs trains round them, and prints events/s and time per event for applyEvent, for
 // createEngine().apply, and the time of a full computeIndications.
 import { performance } from 'node:perf_hooks'
-import { applyEvent, computeIndications, createEngine, validateLayout } from '../shared/signalling'
-import type { Layout, LayoutEvent, LayoutState } from '../shared/signalling'
+import { applyEvent, computeIndications, createEngine, validateLayout } from '#shared/signalling'
+import type { Layout, LayoutEvent, LayoutState } from '#shared/signalling'
 
 const PASSING_LOOP_EVERY = 50
 

@@ -13,9 +13,9 @@ import { QueryTypes, Sequelize } from 'sequelize'
 import { databaseSettings, type DatabaseSettings } from '../server/database/config'
 import { openDatabase } from '../server/database/connection'
 import { createMigrator } from '../server/database/migrator'
-import { createJournal, type JournalEntry } from '../server/utils/live/journal'
-import { journalEntryKey, newJournalBootId, prepareJournalEntry, type JournalRecord } from '../server/utils/live/journal-entry'
-import { insertJournalRecords } from '../server/utils/live/journal-insert'
+import { createJournal, type JournalEntry } from '../server/live/journal'
+import { journalEntryKey, newJournalBootId, prepareJournalEntry, type JournalRecord } from '../server/live/journal-entry'
+import { insertJournalRecords } from '../server/live/journal-insert'
 import { startThrowawayPostgres, type ThrowawayPostgres } from '../tests/support/postgres'
 
 const RATE = 2000

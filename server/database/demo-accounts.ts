@@ -1,4 +1,4 @@
-import type { Role } from '../../shared/utils/roles'
+import type { Role } from '#shared/utils/roles'
 
 /** Demo sign-ins of the invented Fernhollow Light Railway club. Printed by the start command and in README. */
 export const DEMO_ACCOUNTS: { email: string, name: string, role: Role, password: string }[] = [

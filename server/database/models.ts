@@ -2,7 +2,7 @@ import {
   DataTypes, Model,
   type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize,
 } from 'sequelize'
-import type { Role } from '../../shared/utils/roles'
+import type { Role } from '#shared/utils/roles'
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>

@@ -1,7 +1,7 @@
 import type { Database } from './connection'
 import { DEMO_ACCOUNTS } from './demo-accounts'
 import { hashPasswordOutsideNitro } from './password-hash'
-import demoLayout from '../../shared/layouts/demo-layout.json' with { type: 'json' }
+import demoLayout from '#shared/layouts/demo-layout.json' with { type: 'json' }
 
 export const DEMO_LAYOUT_SLUG = 'wrenfold'
 

@@ -1,5 +1,5 @@
 import type { Peer } from 'crossws'
-import { PanelConnection } from '../utils/live/connection'
+import { PanelConnection } from '../live/connection'
 
 // Messages may arrive while `open` is still loading the user: they wait for the connection.
 const connections = new WeakMap<Peer, Promise<PanelConnection | null>>()

@@ -1,6 +1,6 @@
 import type { H3Event } from 'h3'
 import type { User as SessionUser } from '#auth-utils'
-import { roleAtLeast, type Role } from '../../shared/utils/roles'
+import { roleAtLeast, type Role } from '#shared/utils/roles'
 
 /**
  * The one access check every protected route uses. Signed out: 401. Disabled since signing in: the session

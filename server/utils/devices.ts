@@ -1,5 +1,5 @@
 import type { Device } from '../database/models'
-import type { CreateDeviceBody, DeviceView, UpdateDeviceBody } from '../../shared/schemas/device'
+import type { CreateDeviceBody, DeviceView, UpdateDeviceBody } from '#shared/schemas/device'
 
 const toDeviceView = (d: Device): DeviceView => ({ id: d.id, username: d.username, name: d.name, disabled: Boolean(d.disabledAt), createdAt: d.createdAt.toISOString() })
 

@@ -1,4 +1,4 @@
-import type { LayoutSummary } from '../../shared/types/layouts'
+import type { LayoutSummary } from '#shared/types/layouts'
 
 interface StoredDefinition { blocks?: unknown[], signals?: unknown[], areas?: unknown[], scale?: { name?: string } }
 

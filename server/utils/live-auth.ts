@@ -1,4 +1,4 @@
-import type { LiveUser } from '../../shared/live/protocol'
+import type { LiveUser } from '#shared/live/protocol'
 
 /** The user behind a session user id, as the live side needs them; null when missing or disabled. */
 export async function loadLiveUser(id: number): Promise<LiveUser | null> {

@@ -1,4 +1,4 @@
-import { LiveService, liveSettings } from './live/service'
+import { LiveService, liveSettings } from '../live/service'
 
 let service: LiveService | undefined
 

@@ -1,7 +1,7 @@
 import { Op, type Transaction } from 'sequelize'
 import type { User } from '../database/models'
-import type { PersonView } from '../../shared/types/people'
-import type { CreateUserBody, UpdateUserBody } from '../../shared/schemas/account'
+import type { PersonView } from '#shared/types/people'
+import type { CreateUserBody, UpdateUserBody } from '#shared/schemas/account'
 
 export function toPersonView(user: User): PersonView {
   return {

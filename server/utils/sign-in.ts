@@ -1,6 +1,6 @@
 import type { H3Event } from 'h3'
 import type { User as SessionUser } from '#auth-utils'
-import type { SignInBody } from '../../shared/schemas/account'
+import type { SignInBody } from '#shared/schemas/account'
 
 let dummyHash: Promise<string> | undefined
 

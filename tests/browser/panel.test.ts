@@ -6,7 +6,7 @@ import { openBrowser, screenshot, signInThroughForm, type BrowserSession } from 
 import { LiveClient } from '../support/live-client'
 import { runFakeLayoutScript, type FakeLayoutRun } from '../support/fake-layout-process'
 import { startTcpRelay, type TcpRelay } from '../support/tcp-relay'
-import type { ServerMessage } from '../../shared/live/protocol'
+import type { ServerMessage } from '#shared/live/protocol'
 
 // The Panel in Debian's chromium with three people on Wrenfold Junction at once: Tam Oakridge (signaller A),
 // Rhea Lintwhistle (signaller B) and the viewer, on the real server, its embedded broker and the fake layout

@@ -4,7 +4,7 @@ import { readdirSync, readFileSync } from 'node:fs'
 import { join } from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Database } from '../../server/database/connection'
-import { createJournal, type Journal, type JournalOptions, type JournalStats } from '../../server/utils/live/journal'
+import { createJournal, type Journal, type JournalOptions, type JournalStats } from '../../server/live/journal'
 import { startThrowawayPostgres, type ThrowawayPostgres } from '../support/postgres'
 import { freshLayout, numbered, range, removeScratchDirs, scratchDir, sleep, storedRows, waitUntil } from '../support/journal-checks'
 

@@ -6,7 +6,7 @@ import { join, resolve } from 'node:path'
 import { createInterface } from 'node:readline'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import type { Database } from '../../server/database/connection'
-import { createJournal, type Journal, type JournalOptions, type JournalStats } from '../../server/utils/live/journal'
+import { createJournal, type Journal, type JournalOptions, type JournalStats } from '../../server/live/journal'
 import { freePort, startThrowawayPostgres, type ThrowawayPostgres } from '../support/postgres'
 import { freshLayout, numbered, range, removeScratchDirs, scratchDir, storedRows, waitUntil } from '../support/journal-checks'
 

@@ -2,8 +2,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { setup } from '@nuxt/test-utils/e2e'
 import fc from 'fast-check'
 import mqtt, { type MqttClient } from 'mqtt'
-import demo from '../../shared/layouts/demo-layout.json' with { type: 'json' }
-import { computeIndications, initialState, validateLayout } from '../../shared/signalling'
+import demo from '#shared/layouts/demo-layout.json' with { type: 'json' }
+import { computeIndications, initialState, validateLayout } from '#shared/signalling'
 import { BASE_URL } from '../support/http-client'
 import { LiveClient } from '../support/live-client'
 

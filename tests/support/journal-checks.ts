@@ -4,7 +4,7 @@ import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { QueryTypes } from 'sequelize'
 import type { Database } from '../../server/database/connection'
-import type { JournalEntry } from '../../server/utils/live/journal'
+import type { JournalEntry } from '../../server/live/journal'
 
 /** An entry carrying its append number in the payload, so order and completeness can be checked. */
 export function numbered(layoutId: number, n: number, at = Date.now()): JournalEntry {

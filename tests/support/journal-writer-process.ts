@@ -3,7 +3,7 @@
 // server would.
 //   tsx tests/support/journal-writer-process.ts <settings json> <spill dir> <layout id> <first n> <count> <memory limit>
 import { openDatabase } from '../../server/database/connection'
-import { createJournal } from '../../server/utils/live/journal'
+import { createJournal } from '../../server/live/journal'
 import { numbered, waitUntil } from './journal-checks'
 
 const [settingsJson, spillDir, layoutId, first, count, memoryLimit] = process.argv.slice(2)

@@ -1,5 +1,5 @@
 import WebSocket from 'ws'
-import type { LiveChange, ServerMessage } from '../../shared/live/protocol'
+import type { LiveChange, ServerMessage } from '#shared/live/protocol'
 import { BASE_URL, signedIn, type DEMO } from './http-client'
 
 export const WS_URL = BASE_URL.replace(/^http/, 'ws') + '/live'

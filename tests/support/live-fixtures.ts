@@ -1,10 +1,10 @@
 // Live protocol messages for panel tests, made by running the real signalling engine over the demo layout
 // (Wrenfold Junction, an invented scenario). People are the invented Fernhollow Light Railway demo accounts.
-import demo from '../../shared/layouts/demo-layout.json'
-import { applyEvent, computeIndications, initialState, validateLayout } from '../../shared/signalling'
-import type { Change, Layout, LayoutEvent, LayoutState } from '../../shared/signalling'
-import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveSession, LiveState, LiveUser } from '../../shared/live/protocol'
-import type { DeltaMessage, SnapshotMessage } from '../../shared/live/apply'
+import demo from '#shared/layouts/demo-layout.json'
+import { applyEvent, computeIndications, initialState, validateLayout } from '#shared/signalling'
+import type { Change, Layout, LayoutEvent, LayoutState } from '#shared/signalling'
+import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveSession, LiveState, LiveUser } from '#shared/live/protocol'
+import type { DeltaMessage, SnapshotMessage } from '#shared/live/apply'
 
 export const SLUG = 'wrenfold'
 export const ADA: LiveUser = { id: 1, name: 'Ada Wrenfield', role: 'admin' }

@@ -2,8 +2,8 @@
 // snapshot of a DemoRun (states made by the real engine) and lets the test send deltas and command results.
 import WebSocket, { WebSocketServer } from 'ws'
 import type { AddressInfo } from 'node:net'
-import type { ClientMessage, ServerMessage } from '../../shared/live/protocol'
-import type { SocketLike } from '../../shared/live/connection'
+import type { ClientMessage, ServerMessage } from '#shared/live/protocol'
+import type { SocketLike } from '#shared/live/connection'
 import { type DemoRun, TAM } from './live-fixtures'
 
 export interface TestLiveServer {

@@ -1,4 +1,4 @@
-import { ChangePasswordBody } from '../../../shared/schemas/account'
+import { ChangePasswordBody } from '#shared/schemas/account'
 
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'viewer')

@@ -1,4 +1,4 @@
-import { SignInBody } from '../../../shared/schemas/account'
+import { SignInBody } from '#shared/schemas/account'
 
 export default defineEventHandler(async (event) => {
   const body = await parseBody(event, SignInBody)

@@ -1,5 +1,5 @@
-import { IdParams } from '../../../shared/schemas/common'
-import { UpdateDeviceBody } from '../../../shared/schemas/device'
+import { IdParams } from '#shared/schemas/common'
+import { UpdateDeviceBody } from '#shared/schemas/device'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'admin')

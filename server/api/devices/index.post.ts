@@ -1,4 +1,4 @@
-import { CreateDeviceBody } from '../../../shared/schemas/device'
+import { CreateDeviceBody } from '#shared/schemas/device'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'admin')

@@ -1,4 +1,4 @@
-import { IdParams } from '../../../shared/schemas/common'
+import { IdParams } from '#shared/schemas/common'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'viewer')

@@ -1,5 +1,5 @@
-import { IdParams } from '../../../shared/schemas/common'
-import { UpdateUserBody } from '../../../shared/schemas/account'
+import { IdParams } from '#shared/schemas/common'
+import { UpdateUserBody } from '#shared/schemas/account'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'admin')

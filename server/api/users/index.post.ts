@@ -1,4 +1,4 @@
-import { CreateUserBody } from '../../../shared/schemas/account'
+import { CreateUserBody } from '#shared/schemas/account'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'admin')

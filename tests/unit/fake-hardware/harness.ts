@@ -1,8 +1,8 @@
 // Shared pieces of the fake layout tests: the demo layout and plans, small hand-built layouts, and a loop that
 // runs the simulation against the real signalling engine (what the Blockbell server does with the publishes).
 import { readFileSync } from 'node:fs'
-import { createEngine, validateLayout, type Aspect, type Engine, type Layout } from '../../../shared/signalling'
-import type { LayoutInput } from '../../../shared/schemas/layout'
+import { createEngine, validateLayout, type Aspect, type Engine, type Layout } from '#shared/signalling'
+import type { LayoutInput } from '#shared/schemas/layout'
 import type { Publish } from '../../../fake-hardware/output'
 import { TrainPlanFile, type TrainPlan, type TrainPlanInput, TrainPlan as TrainPlanSchema } from '../../../fake-hardware/plan'
 import { Simulation, type SimulationOptions, type TrainView } from '../../../fake-hardware/simulation'

@@ -1,6 +1,6 @@
 import { readFileSync } from 'node:fs'
 import { describe, expect, it } from 'vitest'
-import { createEngine, scaleSpeed } from '../../../shared/signalling'
+import { createEngine, scaleSpeed } from '#shared/signalling'
 import { parseScript, ScriptPlayer, unknownIds, type Scheduled } from '../../../fake-hardware/script'
 import { demoLayout, ROOT } from './harness'
 

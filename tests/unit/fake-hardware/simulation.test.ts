@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
-import { SCALES } from '../../../shared/signalling'
-import { needsThrough, topologyOf } from '../../../shared/signalling/topology'
+import { SCALES } from '#shared/signalling'
+import { needsThrough, topologyOf } from '#shared/signalling/topology'
 import { modelMmPerSecond, OPERATOR_HOLD_MS, Simulation } from '../../../fake-hardware/simulation'
 import type { Publish } from '../../../fake-hardware/output'
 import { circle, demoLayout, demoPlans, detectorTrail, plan, runWithEngine } from './harness'

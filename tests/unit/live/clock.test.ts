@@ -1,7 +1,7 @@
 // The session's fast clock. Check values: REFERENCES.md §6 (fast_elapsed = ratio x real_elapsed, [C] from the
 // fast-clock sources listed there; there is no standard for fast clocks, common practice is 4:1 to 12:1).
 import { describe, expect, it } from 'vitest'
-import { modelMinutesElapsed, modelTime } from '../../../shared/live/clock'
+import { modelMinutesElapsed, modelTime } from '#shared/live/clock'
 
 const START = Date.UTC(2026, 0, 10, 19, 0, 0)
 const MIN = 60_000

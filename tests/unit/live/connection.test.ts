@@ -2,9 +2,9 @@
 // shared/live/protocol.ts with states made by the real engine. Short delays keep the run quick.
 import { afterEach, describe, expect, it } from 'vitest'
 import WebSocket from 'ws'
-import { emptyView } from '../../../shared/live/apply'
-import { LiveConnection, type ConnectionState, type SocketLike } from '../../../shared/live/connection'
-import type { ServerMessage } from '../../../shared/live/protocol'
+import { emptyView } from '#shared/live/apply'
+import { LiveConnection, type ConnectionState, type SocketLike } from '#shared/live/connection'
+import type { ServerMessage } from '#shared/live/protocol'
 import { DemoRun, SLUG, TAM } from '../../support/live-fixtures'
 import { startLiveServer as startServer, type TestLiveServer as TestServer } from '../../support/live-server'
 

@@ -1,8 +1,8 @@
 // Train descriptions typed at the panel. Headcode form: REFERENCES.md §5 (digit, letter, two digits, e.g.
 // 1F42, 2J01); the 16-character limit is the engine's (MAX_DESCRIPTION_LENGTH) and the protocol's.
 import { describe, expect, it } from 'vitest'
-import { MAX_DESCRIPTION_LENGTH } from '../../../shared/signalling'
-import { DESCRIPTION_MAX, checkDescription } from '../../../shared/live/description'
+import { MAX_DESCRIPTION_LENGTH } from '#shared/signalling'
+import { DESCRIPTION_MAX, checkDescription } from '#shared/live/description'
 
 describe('checkDescription', () => {
   it('uses the same limit as the engine', () => {

@@ -1,6 +1,6 @@
 // Drawing helpers checked against the demo layout's own drawing data (shared/layouts/demo-layout.json).
 import { describe, expect, it } from 'vitest'
-import { blockAreaIndex, contentBounds, markDistance, markScale, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagSide, MARK, type Mark } from '../../../shared/live/diagram'
+import { blockAreaIndex, contentBounds, markDistance, markScale, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
 import { demoLayout } from '../../support/live-fixtures'
 
 const def = demoLayout()

@@ -1,7 +1,7 @@
 // Which controls the panel offers (DESIGN.md "Roles": signallers work the signals and turnouts of areas they
 // hold, admins may also force-release, viewers watch only). Demo layout areas: main (Main line), branch.
 import { describe, expect, it } from 'vitest'
-import { areaActions, handOverCandidates, interposeVerdict, signalVerdict, turnoutVerdict } from '../../../shared/live/rights'
+import { areaActions, handOverCandidates, interposeVerdict, signalVerdict, turnoutVerdict } from '#shared/live/rights'
 import { ADA, MILO, RHEA, TAM, demoLayout } from '../../support/live-fixtures'
 
 const def = demoLayout()

@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest'
-import demo from '../../../shared/layouts/demo-layout.json' with { type: 'json' }
-import { validateLayout } from '../../../shared/signalling'
-import type { LiveUser, ServerMessage } from '../../../shared/live/protocol'
-import { LayoutRuntime } from '../../../server/utils/live/runtime'
+import demo from '#shared/layouts/demo-layout.json' with { type: 'json' }
+import { validateLayout } from '#shared/signalling'
+import type { LiveUser, ServerMessage } from '#shared/live/protocol'
+import { LayoutRuntime } from '../../../server/live/runtime'
 
 // The layout runtime on its own: what it broadcasts, publishes and journals for given inputs.
 const checked = validateLayout(demo)

@@ -1,7 +1,7 @@
 // Small hand-built layouts and shorthands for the signalling tests.
-import { applyEvent, computeIndications, initialState, validateLayout } from '../../../shared/signalling'
-import type { Aspect, Change, Layout, LayoutEvent, LayoutState } from '../../../shared/signalling'
-import type { LayoutInput } from '../../../shared/schemas/layout'
+import { applyEvent, computeIndications, initialState, validateLayout } from '#shared/signalling'
+import type { Aspect, Change, Layout, LayoutEvent, LayoutState } from '#shared/signalling'
+import type { LayoutInput } from '#shared/schemas/layout'
 
 type Kind = 'two-aspect' | 'three-aspect' | 'four-aspect' | 'distant'
 

@@ -1,10 +1,10 @@
 // The demo layout (Wrenfold Junction, an invented scenario): it validates, draws completely, and a scripted
 // run of one train through it gives the expected indications at each step.
 import { describe, expect, it } from 'vitest'
-import demo from '../../../shared/layouts/demo-layout.json'
-import { applyEvent, createEngine, initialState, validateLayout } from '../../../shared/signalling'
-import type { Change, Indication, Layout, LayoutEvent, LayoutState } from '../../../shared/signalling'
-import type { Point } from '../../../shared/schemas/layout'
+import demo from '#shared/layouts/demo-layout.json'
+import { applyEvent, createEngine, initialState, validateLayout } from '#shared/signalling'
+import type { Change, Indication, Layout, LayoutEvent, LayoutState } from '#shared/signalling'
+import type { Point } from '#shared/schemas/layout'
 import { LETTER, ind } from './build'
 
 function demoLayout(): Layout {

@@ -1,8 +1,8 @@
 // Property tests on random layouts and random event sequences.
 import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
-import { applyEvent, computeIndications, createEngine, initialState, validateLayout } from '../../../shared/signalling'
-import type { Change, Layout, LayoutEvent, LayoutState } from '../../../shared/signalling'
+import { applyEvent, computeIndications, createEngine, initialState, validateLayout } from '#shared/signalling'
+import type { Change, Layout, LayoutEvent, LayoutState } from '#shared/signalling'
 import { run } from './build'
 
 type Kind = 'two-aspect' | 'three-aspect' | 'four-aspect' | 'distant'

@@ -1,8 +1,8 @@
 // The signalling rules of Blockbell, one table per rule, on small hand-built layouts.
 // Aspects are written R (danger), Y (caution), YY (preliminary caution), G (proceed).
 import { describe, expect, it } from 'vitest'
-import { applyEvent, computeIndications, initialState } from '../../../shared/signalling'
-import type { Change, Layout, LayoutEvent } from '../../../shared/signalling'
+import { applyEvent, computeIndications, initialState } from '#shared/signalling'
+import type { Change, Layout, LayoutEvent } from '#shared/signalling'
 import { alarmsOf, aspects, block, clr, ind, line, mode, occ, run, set, valid, withOccupied } from './build'
 
 const layoutOf = (def: Record<string, unknown>) =>

@@ -1,9 +1,9 @@
 // Checks of the signalling engine and scale speed against outside sources. Each check names its source.
 // Aspects are written R (danger), Y (caution), YY (preliminary caution), G (proceed).
 import { describe, expect, it } from 'vitest'
-import { SCALES, scaleSpeed } from '../../../shared/signalling'
+import { SCALES, scaleSpeed } from '#shared/signalling'
 import { alarmsOf, aspects, block, clr, ind, line, mode, occ, run, set, valid, withOccupied } from './build'
-import { initialState } from '../../../shared/signalling'
+import { initialState } from '#shared/signalling'
 
 describe('British multiple-aspect sequences', () => {
   // Network Rail Safety Central, Jargon Buster "Four aspect signal": red = next section contains a train;

@@ -1,6 +1,6 @@
 // validateLayout: every mistake in a layout definition is reported with the path of the offending value.
 import { describe, expect, it } from 'vitest'
-import { validateLayout } from '../../../shared/signalling'
+import { validateLayout } from '#shared/signalling'
 import { block } from './build'
 
 /** A valid base: A > B > C with a facing turnout in B (to C or D), a signal at A>B, one area. */

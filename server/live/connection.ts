@@ -1,6 +1,6 @@
 import type { Peer } from 'crossws'
-import { ClientMessage, MAX_MESSAGE_BYTES, type LiveUser, type ServerMessage } from '../../../shared/live/protocol'
-import { describeIssues } from '../validation'
+import { ClientMessage, MAX_MESSAGE_BYTES, type LiveUser, type ServerMessage } from '#shared/live/protocol'
+import { describeIssues } from '../utils/validation'
 import type { LiveService } from './service'
 
 const RATE_PER_SECOND = 20

@@ -1,6 +1,6 @@
-import type { Layout } from '../../../shared/schemas/layout'
-import type { AreaHolders, LiveUser } from '../../../shared/live/protocol'
-import { roleAtLeast } from '../../../shared/utils/roles'
+import type { Layout } from '#shared/schemas/layout'
+import type { AreaHolders, LiveUser } from '#shared/live/protocol'
+import { roleAtLeast } from '#shared/utils/roles'
 
 /** Which area of control each signal, turnout and block belongs to (a block: through its signals and turnouts). */
 export interface AreaIndex {

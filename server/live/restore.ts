@@ -1,8 +1,8 @@
 import { QueryTypes } from 'sequelize'
-import type { Layout } from '../../../shared/schemas/layout'
-import { initialState, type Alarm, type LayoutState, type OverrideMode, type TurnoutPosition } from '../../../shared/signalling'
-import type { AreaHolders, LiveUser } from '../../../shared/live/protocol'
-import type { Database } from '../../database/connection'
+import type { Layout } from '#shared/schemas/layout'
+import { initialState, type Alarm, type LayoutState, type OverrideMode, type TurnoutPosition } from '#shared/signalling'
+import type { AreaHolders, LiveUser } from '#shared/live/protocol'
+import type { Database } from '../database/connection'
 
 interface LatestRow { type: string, subject: string, payload: Record<string, any>, at: Date, user_id: number | null }
 

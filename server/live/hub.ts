@@ -1,5 +1,5 @@
 import type { Peer } from 'crossws'
-import type { ServerMessage } from '../../../shared/live/protocol'
+import type { ServerMessage } from '#shared/live/protocol'
 
 /** The WebSocket connections watching each layout. */
 export class PanelHub {

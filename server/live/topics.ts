@@ -1,4 +1,4 @@
-import type { Indication } from '../../../shared/signalling'
+import type { Indication } from '#shared/signalling'
 
 /** Blockbell's MQTT topics (docs/mqtt-topics.md): everything of one layout lives under this prefix. */
 export const TOPIC_ROOT = 'blockbell/v1'
