@@ -5,7 +5,7 @@ import { describeChange, namesOf, type LayoutNames } from '#shared/live/feed'
 import { roleAtLeast } from '#shared/utils/roles'
 import { indexAreas, mayInterpose, mayOperate, type AreaIndex, type Verdict } from './areas'
 import { DetectorDebounce } from './detector-debounce'
-import { signalPayload, signalTopic, turnoutSetTopic } from './topics'
+import { signalPayload, signalTopic, turnoutSetTopic } from '#shared/live/topics'
 
 export interface JournalSink {
   append(entry: { layoutId: number, sessionId: number | null, at: number, type: string, subject: string | null, payload: Record<string, unknown>, userId: number | null }): void
