@@ -89,7 +89,9 @@ export type ServerMessage =
   | {
     type: 'snapshot', layout: string, seq: number, definition: Layout, state: LiveState,
     areas: AreaHolders, operators: LiveUser[], devices: Record<string, DeviceStatus>,
-    session: LiveSession | null, feed: FeedEntry[]
+    session: LiveSession | null,
+    /** The latest feed entries, oldest first (newest last), as a panel keeps them. */
+    feed: FeedEntry[]
   }
   | { type: 'delta', layout: string, seq: number, changes: LiveChange[] }
   | { type: 'command-result', id: string, ok: true }
