@@ -130,17 +130,67 @@ export function markScale(scale: number, max = 2.4): number {
 /** Sizes of the marks in mark units (screen pixels at the fitted zoom, see markScale). */
 export const MARK = {
   lamp: 12.5,
-  signalText: 13,
-  tag: 11,
-  tagOffset: 21,
-  berthHeight: 21,
-  berthText: 14,
-  labelText: 13,
+  signalText: 16,
+  tag: 13,
+  tagOffset: 24,
+  berthHeight: 23,
+  berthText: 16,
+  labelText: 16,
+  /** Smallest tap target, each way (WCAG 2.2 SC 2.5.5 asks 44 x 44 CSS px). */
+  hit: 44,
 } as const
+
+/** Width of a text of `chars` characters at `size` px in the drawing's font (Barlow, about 0.56 em a character). */
+export function textWidth(chars: number, size: number): number {
+  return chars * size * 0.56
+}
+
+/**
+ * A block's path with `gap` drawing units taken off each end, so that the ends of neighbouring blocks stand
+ * apart on the drawing (a path too short to lose that keeps its middle third).
+ */
+export function trimPath(path: Point[], gap: number): Point[] {
+  if (path.length < 2) return path
+  const cut = (pts: Point[], by: number): Point[] => {
+    const out = pts.slice()
+    let left = by
+    while (out.length >= 2) {
+      const [a, b] = [out[0]!, out[1]!]
+      const len = Math.hypot(b[0] - a[0], b[1] - a[1])
+      if (len > left) {
+        const t = left / len
+        out[0] = [a[0] + (b[0] - a[0]) * t, a[1] + (b[1] - a[1]) * t]
+        return out
+      }
+      left -= len
+      out.shift()
+    }
+    return out
+  }
+  let total = 0
+  for (let i = 1; i < path.length; i++) total += Math.hypot(path[i]![0] - path[i - 1]![0], path[i]![1] - path[i - 1]![1])
+  const g = Math.min(gap, total / 3)
+  return cut(cut(path, g).reverse(), g).reverse()
+}
 
 /** Width in mark units of a berth holding `description` (an empty berth is a small box). */
 export function berthWidth(description: string | null): number {
-  return Math.max(30, (description?.length ?? 0) * 9 + 12)
+  // descriptions are set in a monospace face, about 0.62 em a character
+  return Math.max(30, (description?.length ?? 0) * MARK.berthText * 0.62 + 14)
+}
+
+/** A box of at least MARK.hit x MARK.hit mark units round `centre`, `width` x `height` when larger. */
+export function hitBox(centre: Point, width: number, height: number, k: number): { x: number, y: number, width: number, height: number } {
+  const w = Math.max(width, MARK.hit) * k
+  const h = Math.max(height, MARK.hit) * k
+  return { x: centre[0] - w / 2, y: centre[1] - h / 2, width: w, height: h }
+}
+
+/** Where a signal's id is written, from the lamp centre in mark units, for a label pointing `dir`. */
+export function signalTextOffset(id: string, dir: Point): Point {
+  const [dx, dy] = dir
+  const reach = MARK.lamp + 5 + Math.abs(dx) * textWidth(id.length, MARK.signalText) / 2 + Math.abs(dy) * MARK.signalText * 0.55
+  return [dx * reach, dy * reach]
 }
 
 function segmentDistance(p: Point, a: Point, b: Point): number {
