@@ -305,3 +305,45 @@ export function nearestMark(marks: Iterable<Mark>, p: Point, radius: number): st
 export function turnoutTagSide(at: Point, legs: { normal: [Point, Point], reverse: [Point, Point] }): number {
   return legs.normal[1][1] + legs.reverse[1][1] - 2 * at[1] > 0 ? -1 : 1
 }
+
+const TAG_DIRECTIONS: Point[] = [[0, 1], [0, -1], [0.71, 0.71], [-0.71, 0.71], [0.71, -0.71], [-0.71, -0.71], [1, 0], [-1, 0]]
+
+/**
+ * Which way from each turnout's point its tag is drawn, as a unit vector: of below, above, the diagonals and
+ * the sides (the side away from its legs first), the one whose tag lands farthest from the other marks at
+ * mark scale `k` (signal lamps and ids, berths, other turnouts), so that each keeps a tap area of its own.
+ */
+export function turnoutTagDirections(def: Layout, k: number, labelDirs: Record<string, Point>): Record<string, Point> {
+  const others: { owner: string, at: Point }[] = []
+  for (const [id, s] of Object.entries(def.diagram.signals)) {
+    others.push({ owner: `signal:${id}`, at: s.at })
+    const [ox, oy] = signalTextOffset(id, labelDirs[id] ?? [0, -1])
+    others.push({ owner: `signal:${id}`, at: [s.at[0] + ox * k, s.at[1] + oy * k] })
+  }
+  for (const [id, b] of Object.entries(def.diagram.blocks)) if (b.label) others.push({ owner: `block:${id}`, at: b.label })
+  for (const [id, t] of Object.entries(def.diagram.turnouts)) others.push({ owner: `turnout:${id}`, at: t.at })
+  const out: Record<string, Point> = {}
+  for (const t of def.turnouts) {
+    const at = def.diagram.turnouts[t.id]?.at
+    const legs = turnoutLegs(def, t.id)
+    if (!at || !legs) continue
+    const first: Point = [0, turnoutTagSide(at, legs)]
+    let best = first
+    let bestGap = -1
+    for (const dir of [first, ...TAG_DIRECTIONS]) {
+      const p: Point = [at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k]
+      const gap = others.filter(o => o.owner !== `turnout:${t.id}`).reduce((m, o) => Math.min(m, Math.hypot(o.at[0] - p[0], o.at[1] - p[1])), Infinity)
+      // a clear enough place is taken at once, so tags stay on their usual side where they can
+      if (gap >= MARK.hit * k) {
+        best = dir
+        break
+      }
+      if (gap > bestGap + 0.5) {
+        best = dir
+        bestGap = gap
+      }
+    }
+    out[t.id] = best
+  }
+  return out
+}

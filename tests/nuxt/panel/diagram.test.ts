@@ -145,6 +145,22 @@ describe('PanelDiagram', () => {
     expect(w.emitted('berth')).toEqual([['UM2']])
   })
 
+  it('counts a double tap on a mark once: the second click of it, and a repeat tap within half a second', async () => {
+    const run = new DemoRun()
+    const w = await mountDiagram(run)
+    const turnout = w.find('[data-test="turnout-T4"]')
+    await turnout.trigger('click', { detail: 1 })
+    await turnout.trigger('click', { detail: 2 })
+    await turnout.trigger('click', { detail: 1 })
+    expect(w.emitted('turnout')).toEqual([['T4']])
+    // another item straight after is a tap of its own
+    await w.find('[data-test="signal-SU1"]').trigger('click', { detail: 1 })
+    expect(w.emitted('signal')).toEqual([['SU1']])
+    await new Promise(resolve => setTimeout(resolve, 550))
+    await turnout.trigger('click', { detail: 1 })
+    expect(w.emitted('turnout')).toEqual([['T4'], ['T4']])
+  })
+
   it('flashes only the ring of a held signal: its lamp and shape stay lit and readable', async () => {
     const run = new DemoRun()
     run.hold('SU1')
