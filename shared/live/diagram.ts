@@ -323,6 +323,8 @@ export function turnoutTagDirections(def: Layout, k: number, labelDirs: Record<s
   for (const [id, b] of Object.entries(def.diagram.blocks)) if (b.label) others.push({ owner: `block:${id}`, at: b.label })
   for (const [id, t] of Object.entries(def.diagram.turnouts)) others.push({ owner: `turnout:${id}`, at: t.at })
   const out: Record<string, Point> = {}
+  // tap boxes are squares: two keep apart when their centres are a box apart along x or y
+  const apart = (a: Point, b: Point) => Math.max(Math.abs(a[0] - b[0]), Math.abs(a[1] - b[1]))
   for (const t of def.turnouts) {
     const at = def.diagram.turnouts[t.id]?.at
     const legs = turnoutLegs(def, t.id)
@@ -332,7 +334,7 @@ export function turnoutTagDirections(def: Layout, k: number, labelDirs: Record<s
     let bestGap = -1
     for (const dir of [first, ...TAG_DIRECTIONS]) {
       const p: Point = [at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k]
-      const gap = others.filter(o => o.owner !== `turnout:${t.id}`).reduce((m, o) => Math.min(m, Math.hypot(o.at[0] - p[0], o.at[1] - p[1])), Infinity)
+      const gap = others.filter(o => o.owner !== `turnout:${t.id}`).reduce((m, o) => Math.min(m, apart(o.at, p)), Infinity)
       // a clear enough place is taken at once, so tags stay on their usual side where they can
       if (gap >= MARK.hit * k) {
         best = dir
@@ -344,6 +346,35 @@ export function turnoutTagDirections(def: Layout, k: number, labelDirs: Record<s
       }
     }
     out[t.id] = best
+    others.push({ owner: `tag:${t.id}`, at: [at[0] + best[0] * MARK.tagOffset * k, at[1] + best[1] * MARK.tagOffset * k] })
+  }
+  return out
+}
+
+/**
+ * Every tap target on the drawing at mark scale `k`, in drawing units: a box of at least MARK.hit x MARK.hit
+ * mark units round each signal lamp, turnout tag and berth, the turnout's point, and each signal's id (its
+ * text, a little enlarged) as part of its signal. `shown` is what each berth holds ("?" for an undescribed train).
+ */
+export function diagramMarks(def: Layout, k: number, labelDirs: Record<string, Point>, tagDirs: Record<string, Point>, shown: (block: string) => string | null): Mark[] {
+  const d = def.diagram
+  const out: Mark[] = []
+  for (const [id, sig] of Object.entries(d.signals)) {
+    out.push({ key: `signal:${id}`, box: hitBox(sig.at, 2 * MARK.lamp, 2 * MARK.lamp, k) })
+    const [ox, oy] = signalTextOffset(id, labelDirs[id] ?? [0, -1])
+    const w = (textWidth(id.length, MARK.signalText) + 8) * k
+    const h = (MARK.signalText * 1.2 + 6) * k
+    out.push({ key: `signal:${id}`, box: { x: sig.at[0] + ox * k - w / 2, y: sig.at[1] + oy * k - h / 2, width: w, height: h } })
+  }
+  for (const t of def.turnouts) {
+    const at = d.turnouts[t.id]?.at
+    const dir = tagDirs[t.id]
+    if (!at || !dir) continue
+    out.push({ key: `turnout:${t.id}`, box: hitBox([at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k], 2 * MARK.tag, 2 * MARK.tag, k) })
+    out.push({ key: `turnout:${t.id}`, at, r: 6 })
+  }
+  for (const [id, b] of Object.entries(d.blocks)) {
+    if (b.label) out.push({ key: `block:${id}`, box: hitBox(b.label, berthWidth(shown(id)), MARK.berthHeight, k) })
   }
   return out
 }

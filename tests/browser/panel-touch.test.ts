@@ -57,7 +57,7 @@ describe('the Panel on a touch screen (Debian chromium, touch contexts)', () => 
     if (Object.values(before.areas).some(Boolean)) throw new Error('areas already held when the touch test starts')
     if (before.state.alarms.some(a => a.acknowledgedAt === null)) throw new Error('an alarm is open when the touch test starts')
     device = await mqtt.connectAsync(MQTT_URL, { ...DEVICE, clientId: `panel-touch-test-${process.pid}` })
-    session = await openBrowser(TOUCH_SIZES[0], { touch: true })
+    session = await openBrowser(TOUCH_SIZES[0]!, { touch: true })
     const { page } = session
     page.on('pageerror', e => problems.push(`page error: ${e.message}`))
     page.on('console', (m) => { if (m.type() === 'error' || /hydration/i.test(m.text())) problems.push(`console ${m.type()}: ${m.text()}`) })
@@ -140,7 +140,7 @@ describe('the Panel on a touch screen (Debian chromium, touch contexts)', () => 
 
   it('raises the alarm over the diagram without moving it, and shows it in both themes with a train on the move', async () => {
     const { page } = session
-    await fitTo(TOUCH_SIZES[1])
+    await fitTo(TOUCH_SIZES[1]!)
     const still = await boxOf(page, '[data-test="diagram"]')
     // A signaller holds SU3 at danger; a train described 2A07 stands in UM3 and runs past SU3 into UM4.
     const tam = await LiveClient.as('signaller')
@@ -172,7 +172,7 @@ describe('the Panel on a touch screen (Debian chromium, touch contexts)', () => 
       await page.getByTestId('theme').tap() // back to dark
 
       // the alarm acknowledged elsewhere: the banner goes and the diagram stays where it was
-      await fitTo(TOUCH_SIZES[1])
+      await fitTo(TOUCH_SIZES[1]!)
       const withAlarm = await boxOf(page, '[data-test="diagram"]')
       const alarm = (await tam.snapshot()).state.alarms.find(a => a.acknowledgedAt === null)!
       await done({ action: 'acknowledge', alarm: alarm.id })
