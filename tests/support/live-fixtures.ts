@@ -179,7 +179,7 @@ export class DemoRun {
 }
 
 /**
- * A train described 1F42 (a headcode of the usual form, REFERENCES.md §5) enters the up approach from fiddle
+ * A train described 1F42 (a headcode of the usual form, docs/sources.md §5) enters the up approach from fiddle
  * road 1 and runs towards Quillbury while SU2 (Quillbury up starter) is held: it passes SU2 at danger.
  */
 export function spadRun(run = new DemoRun()): { run: DemoRun, deltas: DeltaMessage[] } {
