@@ -2,7 +2,7 @@
  * When a block's track is due for cleaning. Blockbell counts what the journal saw since the block was last
  * cleaned — train passages, hours occupied, detector dropouts, days — and compares each with the layout's
  * thresholds (the admin sets them; `null` leaves a counter out). A block is due once any counter reaches its
- * threshold, and due soon from `DUE_SOON_SHARE` of it.
+ * threshold, and due soon from `DUE_SOON_SHARE` of it. A block never cleaned is due soon while a days threshold is set.
  */
 export const DUE_STATES = ['ok', 'due-soon', 'due'] as const
 export type DueState = typeof DUE_STATES[number]
@@ -58,8 +58,9 @@ export function dueState(use: BlockUse, thresholds: CleaningThresholds, now: num
     share = Math.max(share, s)
   }
   if (use.lastCleanedAt === null && thresholds.days !== null) {
+    // never cleaned: due soon, so a new layout asks for a first cleaning to count from without crying wolf
     reasons.push('no cleaning recorded yet')
-    share = Math.max(share, 1)
+    share = Math.max(share, DUE_SOON_SHARE)
   }
   const state: DueState = share >= 1 ? 'due' : share >= DUE_SOON_SHARE ? 'due-soon' : 'ok'
   return { state, share, reasons }

@@ -19,7 +19,7 @@ describe('due state', () => {
     ['dropouts at the threshold', { dropouts: 5 }, { dropouts: 5 }, 'due'],
     ['days since cleaned: 30 of 30', { lastCleanedAt: NOW - 30 * DAY }, { days: 30 }, 'due'],
     ['days since cleaned: 10 of 30', { lastCleanedAt: NOW - 10 * DAY }, { days: 30 }, 'ok'],
-    ['never cleaned, with a days threshold', { lastCleanedAt: null }, { days: 30 }, 'due'],
+    ['never cleaned, with a days threshold', { lastCleanedAt: null }, { days: 30 }, 'due-soon'],
     ['never cleaned, no days threshold', { lastCleanedAt: null }, {}, 'ok'],
     ['a counter with no threshold counts for nothing', { passages: 10_000 }, { dropouts: 5 }, 'ok'],
   ] as const)('%s', (_, use, thresholds, expected) => {
