@@ -18,8 +18,8 @@ interface UseRow { block: string, passages: string, occupied_seconds: string | n
 
 /**
  * Each block's use since its latest cleaning, counted in PostgreSQL from the journal: passages are block
- * events that became occupied, occupied time runs from each of those to the block's next event (or now), and
- * dropouts are the detector dropouts recorded for the block. Nothing of the journal is loaded into memory.
+ * events that became occupied, occupied time runs from each of those to the block's next event (or now, or
+ * from the cleaning for a train standing there then), and dropouts are the detector dropouts recorded for it. Nothing of the journal is loaded into memory.
  */
 export async function blockUse(sequelize: Sequelize, layoutId: number, now: Date = new Date()): Promise<Map<string, { passages: number, occupiedSeconds: number, dropouts: number, lastCleanedAt: Date | null }>> {
   const rows = await sequelize.query<UseRow>(`
@@ -30,15 +30,30 @@ export async function blockUse(sequelize: Sequelize, layoutId: number, now: Date
       GROUP BY b.block
     ),
     moves AS (
-      SELECT e.subject AS block, e.at, (e.payload->>'occupied')::boolean AS occupied,
-             lead(e.at) OVER (PARTITION BY e.subject ORDER BY e.at, e.id) AS next_at
+      SELECT e.subject AS block, e.at, (e.payload->>'occupied')::boolean AS occupied, c.cleaned_at
       FROM events e LEFT JOIN cleaned c ON c.block = e.subject
       WHERE e.layout_id = :layoutId AND e.type = 'block' AND e.at > coalesce(c.cleaned_at, '-infinity'::timestamptz)
     ),
-    use AS (
+    -- A block's moves alternate occupied / clear, so its time occupied is the sum of the clears' times less
+    -- the sum of the occupieds' times (one pass, no sort), corrected at both ends of the window: a first clear
+    -- belongs to a train already there at the cleaning, a last occupied to a train still there now.
+    sums AS (
       SELECT block, count(*) FILTER (WHERE occupied) AS passages,
-             sum(extract(epoch FROM least(coalesce(next_at, :now), :now) - at)) FILTER (WHERE occupied) AS occupied_seconds
+             coalesce(sum(extract(epoch FROM at)) FILTER (WHERE NOT occupied), 0)
+               - coalesce(sum(extract(epoch FROM at)) FILTER (WHERE occupied), 0) AS raw_seconds,
+             min(at) FILTER (WHERE occupied) AS first_occupied, min(at) FILTER (WHERE NOT occupied) AS first_clear,
+             max(at) FILTER (WHERE occupied) AS last_occupied, max(at) FILTER (WHERE NOT occupied) AS last_clear,
+             max(cleaned_at) AS cleaned_at
       FROM moves GROUP BY block
+    ),
+    use AS (
+      SELECT block, passages,
+             raw_seconds
+               - CASE WHEN first_clear < coalesce(first_occupied, 'infinity'::timestamptz)
+                   THEN extract(epoch FROM coalesce(cleaned_at, first_clear)) ELSE 0 END
+               + CASE WHEN last_occupied > coalesce(last_clear, '-infinity'::timestamptz)
+                   THEN extract(epoch FROM greatest(:now, last_occupied)) ELSE 0 END AS occupied_seconds
+      FROM sums
     ),
     drops AS (
       SELECT e.subject AS block, count(*) AS dropouts
