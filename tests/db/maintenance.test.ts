@@ -96,6 +96,23 @@ describe('track cleaning counters', () => {
     expect(blocks).toHaveLength(layout.blocks.length)
   })
 
+  it('counts a train standing in a block at its cleaning from the cleaning, and one still there until now', async () => {
+    let now = T0 + 400_000
+    const rt = new LayoutRuntime({ layoutId, slug: 'wrenfold-maintenance', layout, debounceMs: 0, now: () => now, publish: () => {}, journal, broadcast: () => {} })
+    rt.detectorInput(detector('UM4'), true, now) // a train stands in UM4 ...
+    await journal.flush()
+    await recordCleaning(db.sequelize, layoutId, layout, { blocks: ['UM4'], method: 'wipe' }, userId, T0 + 410_000) // ... cleaned around it at 410 s
+    now = T0 + 430_000
+    rt.detectorInput(detector('UM4'), false, now) // leaves at 430 s: 20 s since the cleaning, no new passage
+    now = T0 + 500_000
+    rt.detectorInput(detector('DM1'), true, now) // arrives at 500 s and is still there
+    rt.stop()
+    await journal.flush()
+    const use = await blockUse(db.sequelize, layoutId, new Date(T0 + 600_000))
+    expect(use.get('UM4')).toMatchObject({ passages: 0, occupiedSeconds: 20 })
+    expect(use.get('DM1')).toMatchObject({ passages: 1, occupiedSeconds: 100 })
+  })
+
   it('refuses a cleaning of a block the layout does not have, or in the future', async () => {
     await expect(recordCleaning(db.sequelize, layoutId, layout, { blocks: ['ZZ9'], method: 'vacuum' }, userId)).rejects.toMatchObject({ statusCode: 400, message: expect.stringMatching(/^blocks: no block "ZZ9"/) })
     await expect(recordCleaning(db.sequelize, layoutId, layout, { blocks: ['UM1'], method: 'vacuum', at: Date.now() + 86_400_000 }, userId)).rejects.toMatchObject({ statusCode: 400 })
