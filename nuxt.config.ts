@@ -4,13 +4,8 @@ import { themes } from './tailwind.config'
 import { THEME_BOOT_SCRIPT } from './shared/theme/boot'
 
 export default defineNuxtConfig({
-  compatibilityDate: '2025-07-15',
-  srcDir: '.',
-  dir: { app: 'app' },
+  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint'],
   devtools: { enabled: false },
-  telemetry: false,
-  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils'],
-  css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
   app: {
     head: {
       title: 'Blockbell',
@@ -31,10 +26,17 @@ export default defineNuxtConfig({
       script: [{ innerHTML: THEME_BOOT_SCRIPT, tagPosition: 'head' }],
     },
   },
+  css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
   runtimeConfig: {
     session: { name: 'blockbell-session', maxAge: 60 * 60 * 12 },
   },
-  auth: { hash: { scrypt: SCRYPT_OPTIONS } },
+  dir: { app: 'app' },
+  srcDir: '.',
+  compatibilityDate: '2025-07-15',
   nitro: { experimental: { websocket: true } },
   typescript: { strict: true },
+  telemetry: false,
+  auth: { hash: { scrypt: SCRYPT_OPTIONS } },
+  // Lint and format in one: @nuxt/eslint's stylistic rules (no Prettier).
+  eslint: { config: { stylistic: { quotes: 'single', semi: false, commaDangle: 'always-multiline', braceStyle: '1tbs' } } },
 })

@@ -19,29 +19,28 @@ export const palette = {
   heather: { 400: '#c79bd8', 700: '#7d4a94' },
 } as const
 
-/** What each colour is for, per theme. Read in CSS as `var(--bb-<name>)` and in classes as `bb-<name>`. */
-export interface ThemeColours {
-  bg: string, surface: string, 'surface-2': string, border: string, 'border-strong': string,
-  text: string, dim: string, accent: string, 'on-accent': string, 'accent-fill': string,
-  'track-free': string, 'track-occupied': string, danger: string, caution: string, proceed: string,
-  glyph: string, warn: string, 'on-warn': string, alarm: string, 'on-alarm': string, ok: string,
-  'area-0': string, 'area-1': string, 'area-2': string, 'area-3': string,
-}
+/** What each colour is for, per theme. Read in CSS as `var(--bb-<role>)` and in classes as `bb-<role>`. */
+export const THEME_ROLES = [
+  'bg', 'surface', 'surface-2', 'border', 'border-strong', 'text', 'dim', 'accent', 'on-accent', 'accent-fill',
+  'track-free', 'track-occupied', 'danger', 'caution', 'proceed', 'glyph', 'warn', 'on-warn', 'alarm', 'on-alarm', 'ok',
+  'area-0', 'area-1', 'area-2', 'area-3',
+] as const
+export type ThemeColours = Record<typeof THEME_ROLES[number], string>
 
 const p = palette
 export const themes: { dark: ThemeColours, light: ThemeColours } = {
   dark: {
-    bg: p.night[950], surface: p.night[900], 'surface-2': p.night[800], border: p.night[700], 'border-strong': p.night[400],
-    text: p.night[50], dim: p.night[200], accent: p.brass[400], 'on-accent': p.night[950], 'accent-fill': p.brass[500],
-    'track-free': p.night[400], 'track-occupied': p.tarn[300], danger: p.alarm[400], caution: p.warn[400], proceed: p.ok[400],
-    glyph: p.night[950], warn: p.warn[400], 'on-warn': p.night[950], alarm: p.alarm[400], 'on-alarm': p.paper, ok: p.ok[400],
+    'bg': p.night[950], 'surface': p.night[900], 'surface-2': p.night[800], 'border': p.night[700], 'border-strong': p.night[400],
+    'text': p.night[50], 'dim': p.night[200], 'accent': p.brass[400], 'on-accent': p.night[950], 'accent-fill': p.brass[500],
+    'track-free': p.night[400], 'track-occupied': p.tarn[300], 'danger': p.alarm[400], 'caution': p.warn[400], 'proceed': p.ok[400],
+    'glyph': p.night[950], 'warn': p.warn[400], 'on-warn': p.night[950], 'alarm': p.alarm[400], 'on-alarm': p.paper, 'ok': p.ok[400],
     'area-0': p.sky[400], 'area-1': p.heather[400], 'area-2': p.brass[400], 'area-3': p.ok[400],
   },
   light: {
-    bg: p.night[50], surface: p.paper, 'surface-2': p.night[75], border: p.night[200], 'border-strong': p.night[400],
-    text: p.night[900], dim: p.night[600], accent: p.brass[800], 'on-accent': p.night[950], 'accent-fill': p.brass[500],
-    'track-free': p.night[400], 'track-occupied': p.tarn[700], danger: p.alarm[700], caution: p.warn[800], proceed: p.ok[700],
-    glyph: p.paper, warn: p.warn[700], 'on-warn': p.paper, alarm: p.alarm[700], 'on-alarm': p.paper, ok: p.ok[800],
+    'bg': p.night[50], 'surface': p.paper, 'surface-2': p.night[75], 'border': p.night[200], 'border-strong': p.night[400],
+    'text': p.night[900], 'dim': p.night[600], 'accent': p.brass[800], 'on-accent': p.night[950], 'accent-fill': p.brass[500],
+    'track-free': p.night[400], 'track-occupied': p.tarn[700], 'danger': p.alarm[700], 'caution': p.warn[800], 'proceed': p.ok[700],
+    'glyph': p.paper, 'warn': p.warn[700], 'on-warn': p.paper, 'alarm': p.alarm[700], 'on-alarm': p.paper, 'ok': p.ok[800],
     'area-0': p.sky[700], 'area-1': p.heather[700], 'area-2': p.brass[800], 'area-3': p.ok[700],
   },
 }
@@ -56,7 +55,7 @@ export default {
       fontFamily: { sans: ['Barlow', 'ui-sans-serif', 'system-ui', 'sans-serif'] },
       colors: {
         ...palette,
-        bb: Object.fromEntries(Object.keys(themes.dark).map(k => [k, `var(--bb-${k})`])),
+        bb: Object.fromEntries(THEME_ROLES.map(k => [k, `var(--bb-${k})`])),
       },
       minHeight: { touch: '44px' },
       minWidth: { touch: '44px' },

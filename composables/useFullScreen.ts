@@ -13,8 +13,7 @@ export function useFullScreen() {
     try {
       if (document.fullscreenElement) await document.exitFullscreen()
       else await document.documentElement.requestFullscreen()
-    }
-    catch { /* refused by the browser (no user gesture, or not allowed here): stay as we are */ }
+    } catch { /* refused by the browser (no user gesture, or not allowed here): stay as we are */ }
     sync()
   }
   return { supported: readonly(supported), active: readonly(active), toggle }

@@ -18,8 +18,7 @@ export function useWakeLock() {
         held.value = false
       })
       if (!wanted) await release()
-    }
-    catch { held.value = false }
+    } catch { held.value = false }
   }
   async function release() {
     const s = sentinel

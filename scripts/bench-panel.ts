@@ -231,7 +231,11 @@ async function measureDiagram(browser: Browser, base: string, mqttUrl: string, t
   }))
   const rafGap = await page.evaluate(() => new Promise<number>((done) => {
     const t: number[] = []
-    const f = (x: number) => { t.push(x); if (t.length < 31) requestAnimationFrame(f); else done((t.at(-1)! - t[0]!) / 30) }
+    const f = (x: number) => {
+      t.push(x)
+      if (t.length < 31) requestAnimationFrame(f)
+      else done((t.at(-1)! - t[0]!) / 30)
+    }
     requestAnimationFrame(f)
   }))
 
@@ -242,7 +246,11 @@ async function measureDiagram(browser: Browser, base: string, mqttUrl: string, t
       await new Promise<void>(done => requestAnimationFrame(() => {
         const start = performance.now()
         const channel = new MessageChannel()
-        channel.port1.onmessage = () => { out.push(performance.now() - start); channel.port1.close(); done() }
+        channel.port1.onmessage = () => {
+          out.push(performance.now() - start)
+          channel.port1.close()
+          done()
+        }
         channel.port2.postMessage(0)
       }))
       await new Promise(done => setTimeout(done, 40))
@@ -305,8 +313,7 @@ let mqttUrl: string | undefined
 if (external) {
   base = external.replace(/\/$/, '')
   mqttUrl = process.env.BLOCKBELL_BENCH_MQTT_URL
-}
-else {
+} else {
   if (!existsSync('.output/server/index.mjs')) throw new Error('no build in .output: run `nuxt build` first')
   pg = await startThrowawayPostgres({ database: 'blockbell_bench_panel' })
   const db = await pg.openMigrated()
@@ -334,10 +341,8 @@ try {
   await measureJavaScript(browser, base)
   if (mqttUrl) {
     for (const [i, rate] of THROTTLE.entries()) await measureDiagram(browser, base, mqttUrl, rate, 10 + i * (CHANGES / 2 + 10))
-  }
-  else console.log('\n2. skipped: set BLOCKBELL_BENCH_MQTT_URL (and load the bench500 layout) to time the 500-block diagram on an external server')
-}
-finally {
+  } else console.log('\n2. skipped: set BLOCKBELL_BENCH_MQTT_URL (and load the bench500 layout) to time the 500-block diagram on an external server')
+} finally {
   await browser.close()
   await server?.stop()
   await pg?.destroy()

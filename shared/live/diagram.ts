@@ -11,17 +11,17 @@ import { areaOfBlock } from './rights'
 export type AspectCue = 'bar' | 'dot' | 'two-dots' | 'arrow'
 
 export const ASPECT_CUE: Record<Aspect, AspectCue> = {
-  danger: 'bar',
-  caution: 'dot',
+  'danger': 'bar',
+  'caution': 'dot',
   'preliminary-caution': 'two-dots',
-  proceed: 'arrow',
+  'proceed': 'arrow',
 }
 
 export const ASPECT_LABEL: Record<Aspect, string> = {
-  danger: 'Danger',
-  caution: 'Caution',
+  'danger': 'Danger',
+  'caution': 'Caution',
   'preliminary-caution': 'Preliminary caution',
-  proceed: 'Proceed',
+  'proceed': 'Proceed',
 }
 
 export const OVERRIDE_LABEL: Record<OverrideMode, string> = { hold: 'Hold', auto: 'Auto', clear: 'Clear' }
@@ -40,7 +40,7 @@ export function pointsAttr(path: Point[]): string {
 }
 
 /** Unit vector of the direction of travel. */
-export function facingVector(facing: DiagramFacingName): Point {
+function facingVector(facing: DiagramFacingName): Point {
   return ({ left: [-1, 0], right: [1, 0], up: [0, -1], down: [0, 1] } as const)[facing] as Point
 }
 
@@ -263,9 +263,9 @@ export function signalLabelDirections(def: Layout, reach = 40, clearance = 16): 
 }
 
 /** Something on the diagram a tap can open, with where it is drawn (drawing units). */
-export type Mark =
-  | { key: string, at: Point, r: number }
-  | { key: string, box: { x: number, y: number, width: number, height: number } }
+export type Mark
+  = | { key: string, at: Point, r: number }
+    | { key: string, box: { x: number, y: number, width: number, height: number } }
 
 /** Distance from `p` to a mark's drawn shape (0 inside it). */
 export function markDistance(m: Mark, p: Point): number {

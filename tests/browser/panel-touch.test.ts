@@ -178,8 +178,7 @@ describe('the Panel on a touch screen (Debian chromium, touch contexts)', () => 
       await done({ action: 'acknowledge', alarm: alarm.id })
       await expect.poll(() => page.getByTestId('alarm-banner').count(), POLL).toBe(0)
       expect(await boxOf(page, '[data-test="diagram"]')).toEqual(withAlarm)
-    }
-    finally {
+    } finally {
       await device.publishAsync(`${PREFIX}detector/D03`, '0')
       await device.publishAsync(`${PREFIX}detector/D04`, '0')
       await new Promise(resolve => setTimeout(resolve, 800)) // the server holds a clear for its debounce time

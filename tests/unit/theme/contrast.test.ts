@@ -15,7 +15,7 @@ const MINIMUM: Record<Criterion, number> = { 'SC 1.4.3': 4.5, 'SC 1.4.11': 3 }
 
 /** The pairs drawn in one theme: what is written or drawn (fg) on what (bg). */
 function pairs(t: ThemeColours): Pair[] {
-  const grounds = { bg: t.bg, surface: t.surface, 'surface-2': t['surface-2'] }
+  const grounds = { 'bg': t.bg, 'surface': t.surface, 'surface-2': t['surface-2'] }
   const out: Pair[] = []
   const text = (what: string, fg: string, bg: string) => out.push({ what, fg, bg, sc: 'SC 1.4.3' })
   const mark = (what: string, fg: string, bg: string) => out.push({ what, fg, bg, sc: 'SC 1.4.11' })
