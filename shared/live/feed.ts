@@ -31,6 +31,7 @@ export function describeChange(n: LayoutNames, change: LiveChange, userName: (id
     case 'turnout':
       return { at, tone: 'info', text: `Turnout ${change.turnout} ${change.position}${by(change.by)}` }
     case 'description':
+      if (change.reason === 'lost') return { at, tone: 'warn', text: `Description ${change.lost} lost: ${n.block(change.block)} cleared with no undescribed train ahead to move on to. Interpose it again where the train is.` }
       if (change.reason === 'interpose') return { at, tone: 'info', text: `${change.description ?? 'Description cleared'} in ${n.block(change.block)}${by(change.by)}` }
       return null
     case 'speed':

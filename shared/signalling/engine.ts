@@ -251,7 +251,7 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       if (occupied !== (base.occupied[block] === true)) {
         changes.push({ type: 'block', block, occupied, at })
         if (occupied) enterBlock(topo, layout, draft, block, at, changes)
-        else leaveBlock(draft, block, at, changes)
+        else leaveBlock(topo, draft, block, at, changes)
         refresh(topo, draft, topo.signalsByBlock.get(block) ?? [], changes)
       }
       break
@@ -340,13 +340,46 @@ function enterBlock(topo: Topology, layout: Layout, draft: Draft, block: string,
   draft.map('enteredAt')[block] = at
 }
 
-function leaveBlock(draft: Draft, block: string, at: number, changes: Change[]): void {
+function leaveBlock(topo: Topology, draft: Draft, block: string, at: number, changes: Change[]): void {
+  const enteredAt = own(draft.next.enteredAt, block) ? draft.next.enteredAt[block]! : -Infinity
   draft.map('occupied')[block] = false
   delete draft.map('enteredAt')[block]
-  if (own(draft.next.descriptions, block)) {
-    delete draft.map('descriptions')[block]
-    changes.push({ type: 'description', block, description: null, reason: 'clear', at })
+  if (!own(draft.next.descriptions, block)) return
+  const description = draft.next.descriptions[block]!
+  delete draft.map('descriptions')[block]
+  const ahead = describedElsewhere(draft.next, description) ? null : occupiedUndescribedAhead(topo, draft.next, block, enteredAt)
+  if (ahead !== null) {
+    draft.map('descriptions')[ahead] = description
+    changes.push({ type: 'description', block: ahead, description, reason: 'step', from: block, at })
   }
+  const lost = ahead === null && !describedElsewhere(draft.next, description)
+  changes.push({ type: 'description', block, description: null, reason: lost ? 'lost' : 'clear', ...(lost ? { lost: description } : {}), at })
+}
+
+function describedElsewhere(state: LayoutState, description: string): boolean {
+  for (const b in state.descriptions) if (state.descriptions[b] === description) return true
+  return false
+}
+
+/**
+ * Berth stepping when the rear of a train clears (REFERENCES.md §5, CA Berth Step, with occupancy as the
+ * stepping condition): the block ahead of `block` on the set route that is occupied and has no description
+ * (the front of a train standing across both), entered no earlier than `block` itself was. Among several,
+ * the one entered most recently.
+ */
+function occupiedUndescribedAhead(topo: Topology, state: LayoutState, block: string, enteredAt: number): string | null {
+  let best: string | null = null
+  let bestAt = -Infinity
+  for (const x of topo.out.get(block) ?? []) {
+    if (state.occupied[x] !== true || own(state.descriptions, x) || setAgainst(topo, state, block, x)) continue
+    const at = own(state.enteredAt, x) ? state.enteredAt[x]! : -Infinity
+    if (at < enteredAt && at !== -Infinity) continue
+    if (best === null || at > bestAt) {
+      best = x
+      bestAt = at
+    }
+  }
+  return best
 }
 
 /**

@@ -137,10 +137,13 @@ export interface DescriptionChange {
   description: string | null
   /**
    * step: moved in from block `from` as the train entered; interpose: typed in by an operator;
-   * clear: the block cleared, or an empty interpose cancelled it.
+   * clear: the block cleared, or an empty interpose cancelled it; lost: the block cleared and its
+   * description is nowhere else on the layout (no occupied, undescribed block ahead to move on to).
    */
-  reason: 'step' | 'interpose' | 'clear'
+  reason: 'step' | 'interpose' | 'clear' | 'lost'
   from?: string
+  /** With reason lost: the description that was lost. */
+  lost?: string
   at: number
   by?: string
 }
