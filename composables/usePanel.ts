@@ -43,10 +43,12 @@ export function usePanel() {
   const releaseArea = (a: LayoutArea) => live.send({ action: 'release-area', area: a.id })
   const forceRelease = (a: LayoutArea) => live.send({ action: 'force-release', area: a.id })
   const handOver = (a: LayoutArea, to: number) => live.send({ action: 'hand-over', area: a.id, to })
+  const acceptHandOver = (area: string) => live.send({ action: 'accept-hand-over', area })
+  const declineHandOver = (area: string) => live.send({ action: 'decline-hand-over', area })
 
   return {
     live, user, def, isLive, isSignaller,
     forSignal, forTurnout, forBerth,
-    setOverride, throwTurnout, interpose, acknowledge, takeArea, releaseArea, forceRelease, handOver,
+    setOverride, throwTurnout, interpose, acknowledge, takeArea, releaseArea, forceRelease, handOver, acceptHandOver, declineHandOver,
   }
 }

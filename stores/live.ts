@@ -1,6 +1,6 @@
 import { applyDelta, applySnapshot, emptyView } from '#shared/live/apply'
 import {
-  COMMAND_TIMEOUT_MS, NOT_CONNECTED, NO_ANSWER_LOST, NO_ANSWER_TIMEOUT, commandLabel, commandTarget, newCommandId,
+  COMMAND_TIMEOUT_MS, NOT_CONNECTED, NO_ANSWER_LOST, NO_ANSWER_TIMEOUT, NO_WORD, REPEAT_TAP_MS, commandLabel, commandTarget, newCommandId,
   type CommandRecord,
 } from '#shared/live/commands'
 import { LiveConnection, type ConnectionState, type SocketLike } from '#shared/live/connection'
@@ -41,7 +41,8 @@ export const useLiveStore = defineStore('live', () => {
     connection.value = state
     attempt.value = n
     if (state === 'live') serverError.value = null
-    else for (const c of commands.value) if (c.status === 'pending') settle(c.id, 'no-answer', NO_ANSWER_LOST)
+    // stale: the socket is still open, so a command already sent may yet be answered (or refused as late)
+    else if (state !== 'stale') for (const c of commands.value) if (c.status === 'pending') settle(c.id, 'no-answer', NO_ANSWER_LOST)
   }
 
   /** Handles one server message (the connection passes everything but snapshot and delta here). */
@@ -49,7 +50,7 @@ export const useLiveStore = defineStore('live', () => {
     if (msg.type === 'snapshot') applySnapshot(view, msg)
     else if (msg.type === 'delta') applyDelta(view, msg)
     else if (msg.type === 'welcome') me.value = msg.user
-    else if (msg.type === 'command-result') settle(msg.id, msg.ok ? 'done' : 'refused', msg.ok ? null : msg.reason)
+    else if (msg.type === 'command-result') settle(msg.id, msg.ok ? 'done' : 'refused', msg.ok ? msg.note ?? null : msg.reason)
     else if (msg.type === 'error') serverError.value = msg.message
   }
 
@@ -75,15 +76,23 @@ export const useLiveStore = defineStore('live', () => {
     link?.retryNow()
   }
 
-  /** Sends a command and returns its record, which the server's command-result settles. */
+  /**
+   * Sends a command and returns its record, which the server's command-result settles. A second command on
+   * the same item within REPEAT_TAP_MS of the first (a double tap: Take, then the Release that took its
+   * place) is not sent: the first one's record is returned.
+   */
   function send(command: LiveCommand): CommandRecord {
+    const target = commandTarget(command)
+    const now = Date.now()
+    const previous = latestFor(target)
+    if (previous && now - previous.at < REPEAT_TAP_MS) return previous
     const rec: CommandRecord = {
-      id: newCommandId(), command, target: commandTarget(command), label: commandLabel(command, view.definition, view.operators),
-      status: 'pending', reason: null, at: Date.now(),
+      id: newCommandId(), command, target, label: commandLabel(command, view.definition, view.operators),
+      status: 'pending', reason: null, at: now,
     }
     commands.value = [rec, ...commands.value].slice(0, COMMAND_HISTORY)
-    const sent = connection.value === 'live' && link?.send({ type: 'command', id: rec.id, command })
-    if (!sent) settle(rec.id, 'refused', NOT_CONNECTED)
+    const sent = connection.value === 'live' && link?.send({ type: 'command', id: rec.id, command, madeAt: link.serverNow(now) })
+    if (!sent) settle(rec.id, 'refused', connection.value === 'stale' ? NO_WORD : NOT_CONNECTED)
     else timeouts.set(rec.id, setTimeout(() => settle(rec.id, 'no-answer', NO_ANSWER_TIMEOUT), COMMAND_TIMEOUT_MS))
     return commands.value[0]!
   }

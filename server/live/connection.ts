@@ -51,7 +51,7 @@ export class PanelConnection {
           return this.peer.close(4001, 'account disabled')
         }
         this.user = current
-        const verdict = runtime.command(current, message.command)
+        const verdict = runtime.command(current, message.command, message.madeAt)
         return this.send(verdict.ok ? { type: 'command-result', id: message.id, ok: true } : { type: 'command-result', id: message.id, ok: false, reason: verdict.reason })
       }
     }

@@ -1,8 +1,9 @@
 import type { Layout, LayoutArea } from '#shared/schemas/layout'
 import { createEngine, type Change, type Engine, type LayoutEvent, type LayoutState } from '#shared/signalling'
-import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveCommand, LiveSession, LiveUser, ServerMessage } from '#shared/live/protocol'
+import { COMMAND_MAX_AGE_MS, type AreaHolders, type HandOverOffers, type UnattendedAreas, DeviceStatus, FeedEntry, LiveChange, LiveCommand, LiveSession, LiveUser, ServerMessage } from '#shared/live/protocol'
 import { describeChange, namesOf, type LayoutNames } from '#shared/live/feed'
 import { acknowledgeVerdict, areaVerdict, handOverTargetVerdict, interposeVerdict, signalVerdict, turnoutVerdict, type Verdict } from '#shared/live/rights'
+import { roleAtLeast } from '#shared/utils/roles'
 import { DetectorDebounce } from './detector-debounce'
 import { signalPayload, signalTopic, turnoutSetTopic } from '#shared/live/topics'
 
@@ -22,12 +23,19 @@ export interface RuntimeDeps {
   state?: LayoutState
   areas?: AreaHolders
   session?: LiveSession | null
+  /** A holder with no panel connected this long leaves the area unattended (any signaller may take it). */
+  areaGraceMs?: number
+  /** A hand-over not accepted within this time falls back to the giver. */
+  handOverTimeoutMs?: number
 }
+
+export const AREA_GRACE_MS = 60_000
+export const HAND_OVER_TIMEOUT_MS = 30_000
 
 const FEED_LENGTH = 30
 
 /** What became of an operator's command: carried out, or refused with a reason the operator reads. */
-export type CommandOutcome = { ok: true } | { ok: false, reason: string }
+export type CommandOutcome = { ok: true, note?: string } | { ok: false, reason: string }
 
 /**
  * The single writer of one layout's live state. Every input — a detector, a turnout report, an operator's
@@ -45,6 +53,13 @@ export class LayoutRuntime {
   private seq = 0
   private pendingChanges: LiveChange[] = []
   private areas: AreaHolders
+  /** Holders with no panel connected: user id -> when their last panel closed. */
+  private awaySince = new Map<number, number>()
+  private unattended: UnattendedAreas = {}
+  private offers: HandOverOffers = {}
+  private timers = new Set<ReturnType<typeof setTimeout>>()
+  private readonly graceMs: number
+  private readonly handOverMs: number
   private connections = new Map<number, { user: LiveUser, count: number }>()
   private devices: Record<string, DeviceStatus> = {}
   private dropouts: Record<string, number> = {}
@@ -61,6 +76,12 @@ export class LayoutRuntime {
     this.detectorBlock = new Map(deps.layout.blocks.flatMap(b => b.detectors.map(d => [d, b.id] as [string, string])))
     this.areas = Object.fromEntries(deps.layout.areas.map(a => [a.id, deps.areas?.[a.id] ?? null]))
     this.session = deps.session ?? null
+    this.graceMs = deps.areaGraceMs ?? AREA_GRACE_MS
+    this.handOverMs = deps.handOverTimeoutMs ?? HAND_OVER_TIMEOUT_MS
+    // holders restored from the journal have no panel open yet: their grace period starts now
+    const start = this.now()
+    for (const holder of Object.values(this.areas)) if (holder && !this.awaySince.has(holder.id)) this.awaySince.set(holder.id, start)
+    if (this.awaySince.size) this.later(this.graceMs, () => this.checkAttendance())
     this.debounce = new DetectorDebounce(deps.debounceMs ?? 300, {
       change: (detector, occupied, at) => this.applyInput({ type: 'detector', detector, occupied, at }, null),
       dropout: (detector, at) => this.recordDropout(detector, at),
@@ -104,7 +125,9 @@ export class LayoutRuntime {
     const entry = this.connections.get(user.id)
     if (entry) entry.count++
     else this.connections.set(user.id, { user, count: 1 })
-    if (!entry) this.emit([{ type: 'operators', operators: this.operators() }])
+    if (entry) return
+    this.awaySince.delete(user.id)
+    this.emit([{ type: 'operators', operators: this.operators() }, ...this.attendanceChanges()])
   }
 
   disconnect(user: LiveUser): void {
@@ -112,16 +135,77 @@ export class LayoutRuntime {
     if (!entry) return
     if (--entry.count > 0) return
     this.connections.delete(user.id)
-    this.emit([{ type: 'operators', operators: this.operators() }])
+    this.awaySince.set(user.id, this.now())
+    this.emit([{ type: 'operators', operators: this.operators() }, ...this.offersWithout(o => o.to.id === user.id)])
+    this.later(this.graceMs, () => this.checkAttendance())
+  }
+
+  // ---- areas nobody attends, and hand-overs waiting for the receiver ----
+
+  private later(ms: number, run: () => void): void {
+    const timer = setTimeout(() => { this.timers.delete(timer); run() }, ms)
+    timer.unref?.()
+    this.timers.add(timer)
+  }
+
+  /** Areas whose holder has been away for the grace period (area id -> since when). */
+  private computeUnattended(): UnattendedAreas {
+    const now = this.now()
+    const out: UnattendedAreas = {}
+    for (const [area, holder] of Object.entries(this.areas)) {
+      const since = holder ? this.awaySince.get(holder.id) : undefined
+      if (since !== undefined && now - since >= this.graceMs) out[area] = since
+    }
+    return out
+  }
+
+  private attendanceChanges(): LiveChange[] {
+    const next = this.computeUnattended()
+    if (JSON.stringify(next) === JSON.stringify(this.unattended)) return []
+    this.unattended = next
+    return [{ type: 'unattended', areas: next }]
+  }
+
+  private checkAttendance(): void {
+    const before = this.unattended
+    const changes = this.attendanceChanges()
+    if (!changes.length) return
+    const feed = Object.keys(this.unattended).filter(a => !(a in before)).map(a => ({
+      type: 'feed' as const,
+      entry: this.pushFeed({ at: this.now(), tone: 'warn', text: `${this.names.area(a)} is unattended: ${this.areas[a]?.name ?? 'its holder'} has had no panel open for ${Math.round(this.graceMs / 1000)} s. Any signaller may take it.` }),
+    }))
+    this.emit([...changes, ...feed])
+  }
+
+  /** Drops the offers `drop` picks (their giver keeps the area); the change to send, if any. */
+  private offersWithout(drop: (offer: HandOverOffers[string], area: string) => boolean): LiveChange[] {
+    const kept = Object.fromEntries(Object.entries(this.offers).filter(([area, o]) => !drop(o, area)))
+    if (Object.keys(kept).length === Object.keys(this.offers).length) return []
+    this.offers = kept
+    return [{ type: 'offers', offers: kept }]
+  }
+
+  private expireOffer(area: string, offer: HandOverOffers[string]): void {
+    if (this.offers[area] !== offer) return
+    const changes = this.offersWithout((_, a) => a === area)
+    const text = `${offer.to.name} did not accept ${this.names.area(area)} within ${Math.round(this.handOverMs / 1000)} s: it stays with ${offer.from.name}.`
+    this.emit([...changes, { type: 'feed', entry: this.pushFeed({ at: this.now(), tone: 'warn', text }) }], { type: 'hand-over-lapsed', subject: area, payload: { from: offer.from.id, to: offer.to.id }, userId: null, at: this.now() })
   }
 
   operators(): LiveUser[] {
     return [...this.connections.values()].map(c => c.user).sort((a, b) => a.name.localeCompare(b.name))
   }
 
-  /** Checks and carries out one command; the reason is shown to the operator when refused. */
-  command(user: LiveUser, command: LiveCommand): CommandOutcome {
-    const reason = this.unknownItem(command) ?? this.notAllowed(user, command) ?? this.staleRevision(command)
+  /**
+   * Checks and carries out one command; the reason is shown to the operator when refused. `madeAt` is when the
+   * person made it (server clock, as the panel estimates it): one that arrives too late is refused.
+   */
+  command(user: LiveUser, command: LiveCommand, madeAt?: number): CommandOutcome {
+    const late = this.late(madeAt)
+    const unknown = late ?? this.unknownItem(command)
+    const already = unknown ? null : this.alreadyDone(user, command)
+    if (already) return { ok: true, note: already }
+    const reason = unknown ?? this.notAllowed(user, command) ?? this.staleRevision(command)
     if (reason) {
       this.counters.refusedCommands++
       return { ok: false, reason }
@@ -130,12 +214,24 @@ export class LayoutRuntime {
     const journal = { type: 'command', subject: 'area' in command ? command.area : null, payload: { ...command }, userId: user.id, at }
     const by = String(user.id)
     switch (command.action) {
-      case 'take-area': return this.setHolder(command.area, user, `${user.name} took ${this.names.area(command.area)}`, journal)
+      case 'take-area': {
+        const from = this.areas[command.area]
+        const text = from ? `${user.name} took ${this.names.area(command.area)}, unattended since ${from.name} left` : `${user.name} took ${this.names.area(command.area)}`
+        return this.setHolder(command.area, user, text, journal)
+      }
       case 'release-area': return this.setHolder(command.area, null, `${user.name} released ${this.names.area(command.area)}`, journal)
       case 'force-release': return this.setHolder(command.area, null, `${user.name} force-released ${this.names.area(command.area)}`, journal)
-      case 'hand-over': {
-        const to = this.connections.get(command.to)!.user
-        return this.setHolder(command.area, to, `${user.name} handed ${this.names.area(command.area)} over to ${to.name}`, journal)
+      case 'hand-over': return this.offerArea(command.area, user, this.connections.get(command.to)!.user, journal)
+      case 'accept-hand-over': {
+        const offer = this.offers[command.area]!
+        return this.setHolder(command.area, user, `${user.name} accepted ${this.names.area(command.area)} from ${offer.from.name}`, journal)
+      }
+      case 'decline-hand-over': {
+        const offer = this.offers[command.area]!
+        const changes = this.offersWithout((_, a) => a === command.area)
+        const text = `${user.name} declined ${this.names.area(command.area)}: it stays with ${offer.from.name}.`
+        this.emit([...changes, { type: 'feed', entry: this.pushFeed({ at, tone: 'info', text }) }], { ...journal, type: 'hand-over-declined' })
+        return { ok: true }
       }
       case 'set-override':
         return this.applyCommand({ type: 'override', signal: command.signal, mode: command.mode, at, by }, user, { ...journal, subject: command.signal })
@@ -151,6 +247,34 @@ export class LayoutRuntime {
     }
   }
 
+  /**
+   * Area commands asked for what is already so: nothing to do, and the panel says so quietly (a second
+   * Take from a double tap, a Release of a free area, the same hand-over offered twice).
+   */
+  private alreadyDone(user: LiveUser, command: LiveCommand): string | null {
+    if (!('area' in command) || !this.area(command.area)) return null
+    const name = this.names.area(command.area)
+    const holder = this.areas[command.area]
+    switch (command.action) {
+      case 'take-area': return holder?.id === user.id ? `you already hold ${name}.` : null
+      case 'accept-hand-over': return holder?.id === user.id && !this.offers[command.area] ? `you already hold ${name}.` : null
+      case 'release-area': return holder === null && roleAtLeast(user.role, 'signaller') ? `${name} is not held: nothing to release.` : null
+      case 'hand-over': {
+        const offer = this.offers[command.area]
+        return offer && offer.from.id === user.id && offer.to.id === command.to ? `already offered to ${offer.to.name}; waiting for them to accept.` : null
+      }
+      default: return null
+    }
+  }
+
+  /** A command that waited too long on the way (a frozen server, a stalled link) no longer says what its maker sees. */
+  private late(madeAt: number | undefined): string | null {
+    if (madeAt === undefined) return null
+    const age = this.now() - madeAt
+    if (age <= COMMAND_MAX_AGE_MS) return null
+    return `Not done: this command reached the server ${Math.round(age / 1000)} s after you made it (the limit is ${COMMAND_MAX_AGE_MS / 1000} s), so it may no longer fit what is on the layout. Look again and retry.`
+  }
+
   /** The command names an area, signal, turnout, block or alarm this layout does not have. */
   private unknownItem(command: LiveCommand): string | null {
     const state = this.engine.state()
@@ -158,6 +282,9 @@ export class LayoutRuntime {
     switch (command.action) {
       case 'take-area': case 'release-area': case 'hand-over': case 'force-release':
         return this.area(command.area) ? null : missing('area', command.area)
+      case 'accept-hand-over': case 'decline-hand-over':
+        if (!this.area(command.area)) return missing('area', command.area)
+        return this.offers[command.area] ? null : `Nobody is offering you ${this.names.area(command.area)} now (the offer may have lapsed).`
       case 'set-override': return command.signal in state.overrides ? null : missing('signal', command.signal)
       case 'set-turnout': return command.turnout in state.turnouts ? null : missing('turnout', command.turnout)
       case 'interpose': return command.block in state.occupied ? null : missing('block', command.block)
@@ -173,7 +300,9 @@ export class LayoutRuntime {
   private notAllowed(user: LiveUser, command: LiveCommand): string | null {
     const reasonOf = (verdict: Verdict) => verdict.allowed ? null : verdict.reason
     switch (command.action) {
-      case 'take-area': return reasonOf(areaVerdict(user, this.areas, this.area(command.area)!, 'take'))
+      case 'take-area': return reasonOf(areaVerdict(user, this.areas, this.area(command.area)!, 'take', this.unattended))
+      case 'accept-hand-over': case 'decline-hand-over':
+        return this.offers[command.area]!.to.id === user.id ? null : `${this.names.area(command.area)} is offered to ${this.offers[command.area]!.to.name}, not to you.`
       case 'release-area': return reasonOf(areaVerdict(user, this.areas, this.area(command.area)!, 'release'))
       case 'force-release': return reasonOf(areaVerdict(user, this.areas, this.area(command.area)!, 'force-release'))
       case 'hand-over': {
@@ -210,7 +339,18 @@ export class LayoutRuntime {
 
   private setHolder(area: string, holder: LiveUser | null, text: string, journal: JournalFields): CommandOutcome {
     this.areas = { ...this.areas, [area]: holder }
-    this.emit([{ type: 'areas', areas: this.areas }, { type: 'feed', entry: this.pushFeed({ at: journal.at, tone: 'info', text }) }], journal)
+    const offers = this.offersWithout((_, a) => a === area)
+    this.emit([{ type: 'areas', areas: this.areas }, ...offers, ...this.attendanceChanges(), { type: 'feed', entry: this.pushFeed({ at: journal.at, tone: 'info', text }) }], journal)
+    return { ok: true }
+  }
+
+  /** The holder offers an area to another signaller, who has HAND_OVER_TIMEOUT_MS to accept it. */
+  private offerArea(area: string, from: LiveUser, to: LiveUser, journal: JournalFields): CommandOutcome {
+    const offer = { from, to, at: journal.at, until: journal.at + this.handOverMs }
+    this.offers = { ...this.offers, [area]: offer }
+    const text = `${from.name} offers ${this.names.area(area)} to ${to.name}, who has ${Math.round(this.handOverMs / 1000)} s to accept`
+    this.emit([{ type: 'offers', offers: this.offers }, { type: 'feed', entry: this.pushFeed({ at: journal.at, tone: 'info', text }) }], { ...journal, payload: { ...journal.payload, offer: true } })
+    this.later(this.handOverMs, () => this.expireOffer(area, offer))
     return { ok: true }
   }
 
@@ -300,7 +440,8 @@ export class LayoutRuntime {
         occupied: s.occupied, turnouts: s.turnouts, overrides: s.overrides, descriptions: s.descriptions, alarms: s.alarms,
         indications: this.engine.indications(), signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts: this.dropouts,
       },
-      areas: this.areas, operators: this.operators(), devices: this.devices, session: this.session, feed: this.feed,
+      areas: this.areas, unattended: this.unattended, offers: this.offers,
+      operators: this.operators(), devices: this.devices, session: this.session, feed: this.feed,
     }
   }
 
@@ -308,6 +449,8 @@ export class LayoutRuntime {
   areaHolders(): AreaHolders { return this.areas }
 
   stop(): void {
+    for (const timer of this.timers) clearTimeout(timer)
+    this.timers.clear()
     this.debounce.flush()
     this.flushDelta()
   }

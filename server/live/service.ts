@@ -2,7 +2,7 @@ import { randomBytes } from 'node:crypto'
 import { join } from 'node:path'
 import mqtt, { type MqttClient } from 'mqtt'
 import { validateLayout } from '#shared/signalling'
-import type { ServerMessage } from '#shared/live/protocol'
+import { HEARTBEAT_MS, type ServerMessage } from '#shared/live/protocol'
 import type { Database } from '../database/connection'
 import { verifyPasswordOutsideNitro } from '../database/password-hash'
 import { startBroker, type RunningBroker } from './broker'
@@ -21,6 +21,19 @@ export interface LiveSettings {
   demo: boolean
   debounceMs: number
   dataDir: string
+  /** BLOCKBELL_AREA_GRACE_S: a holder with no panel open this long leaves the area unattended. */
+  areaGraceMs: number
+  /** BLOCKBELL_HANDOVER_TIMEOUT_S: a hand-over not accepted in this time stays with the giver. */
+  handOverTimeoutMs: number
+}
+
+/** A whole number of seconds from the environment, in ms; the default when unset or not a positive number. */
+function secondsSetting(value: string | undefined, fallbackS: number, name: string): number {
+  if (value === undefined || value === '') return fallbackS * 1000
+  const n = Number(value)
+  if (Number.isFinite(n) && n > 0 && n <= 86_400) return Math.round(n * 1000)
+  console.warn(`[blockbell] ${name}="${value}" is not a number of seconds between 0 and 86400; using ${fallbackS}`)
+  return fallbackS * 1000
 }
 
 export function liveSettings(env: NodeJS.ProcessEnv = process.env): LiveSettings {
@@ -31,6 +44,8 @@ export function liveSettings(env: NodeJS.ProcessEnv = process.env): LiveSettings
     demo: env.BLOCKBELL_DEMO === '1',
     debounceMs: Number(env.BLOCKBELL_DETECTOR_DEBOUNCE_MS ?? 300),
     dataDir: env.BLOCKBELL_DATA_DIR || join(process.cwd(), '.data'),
+    areaGraceMs: secondsSetting(env.BLOCKBELL_AREA_GRACE_S, 60, 'BLOCKBELL_AREA_GRACE_S'),
+    handOverTimeoutMs: secondsSetting(env.BLOCKBELL_HANDOVER_TIMEOUT_S, 30, 'BLOCKBELL_HANDOVER_TIMEOUT_S'),
   }
 }
 
@@ -48,10 +63,14 @@ export class LiveService {
   private client: MqttClient | null = null
   private journal: Journal
   private ready: Promise<void>
+  private heartbeat: ReturnType<typeof setInterval>
 
   constructor(private readonly db: Database, private readonly settings: LiveSettings) {
     this.journal = createJournal({ sequelize: db.sequelize, spillDir: join(settings.dataDir, 'journal-spill'), log })
     this.ready = this.start()
+    // Panels take silence as "no word from the server": a paused or stuck process shows within seconds.
+    this.heartbeat = setInterval(() => this.hub.broadcastAll({ type: 'heartbeat', at: Date.now() }), HEARTBEAT_MS)
+    this.heartbeat.unref()
   }
 
   whenReady(): Promise<void> { return this.ready }
@@ -86,6 +105,7 @@ export class LiveService {
           this.runtimes.set(row.slug, new LayoutRuntime({
             layoutId: row.id, slug: row.slug, layout: checked.layout, debounceMs: this.settings.debounceMs,
             state: restored.state, areas: restored.areas,
+            areaGraceMs: this.settings.areaGraceMs, handOverTimeoutMs: this.settings.handOverTimeoutMs,
             publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
             journal: this.journal,
             broadcast: (message: ServerMessage) => this.hub.broadcast(row.slug, message),
@@ -154,6 +174,7 @@ export class LiveService {
   journalStats() { return this.journal.stats() }
 
   async close(): Promise<void> {
+    clearInterval(this.heartbeat)
     for (const runtime of this.runtimes.values()) runtime.stop()
     await new Promise<void>(resolve => this.client ? this.client.end(false, {}, () => resolve()) : resolve())
     await this.broker?.close()

@@ -1,5 +1,5 @@
 import type { Layout } from '../schemas/layout'
-import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveSession, LiveState, LiveUser, ServerMessage } from './protocol'
+import type { AreaHolders, DeviceStatus, FeedEntry, HandOverOffers, UnattendedAreas, LiveChange, LiveSession, LiveState, LiveUser, ServerMessage } from './protocol'
 
 /**
  * What a panel knows about one layout, built only from the server's messages: a `snapshot` replaces it,
@@ -14,6 +14,8 @@ export interface PanelView {
   definition: Layout | null
   state: LiveState
   areas: AreaHolders
+  unattended: UnattendedAreas
+  offers: HandOverOffers
   operators: LiveUser[]
   devices: Record<string, DeviceStatus>
   session: LiveSession | null
@@ -34,7 +36,7 @@ export function emptyState(): LiveState {
 }
 
 export function emptyView(): PanelView {
-  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, operators: [], devices: {}, session: null, feed: [] }
+  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, unattended: {}, offers: {}, operators: [], devices: {}, session: null, feed: [] }
 }
 
 /**
@@ -48,6 +50,8 @@ export function applySnapshot(view: PanelView, msg: SnapshotMessage): void {
   view.definition = Object.isFrozen(msg.definition) ? msg.definition : Object.freeze(structuredClone(msg.definition))
   view.state = { ...emptyState(), ...structuredClone(msg.state) }
   view.areas = structuredClone(msg.areas)
+  view.unattended = { ...msg.unattended }
+  view.offers = structuredClone(msg.offers ?? {})
   view.operators = structuredClone(msg.operators)
   view.devices = structuredClone(msg.devices)
   view.session = msg.session ? { ...msg.session } : null
@@ -101,6 +105,8 @@ export function applyChange(view: PanelView, change: LiveChange): void {
       break
     case 'dropout': s.dropouts[change.block] = change.at; break
     case 'areas': view.areas = structuredClone(change.areas); break
+    case 'unattended': view.unattended = { ...change.areas }; break
+    case 'offers': view.offers = structuredClone(change.offers); break
     case 'operators': view.operators = structuredClone(change.operators); break
     case 'device': view.devices[change.device] = { ...change.status }; break
     case 'session': view.session = change.session ? { ...change.session } : null; break

@@ -21,6 +21,10 @@ export const COMMAND_TIMEOUT_MS = 10_000
 export const NO_ANSWER_LOST = 'The connection dropped before the server answered: look at the diagram to see whether it took effect.'
 export const NO_ANSWER_TIMEOUT = 'No answer from the server within 10 seconds: look at the diagram to see whether it took effect.'
 export const NOT_CONNECTED = 'Not connected: the command was not sent. Wait until the panel is live again.'
+export const NO_WORD = 'No word from the server: the command was not sent, as the picture may be out of date. Wait until the panel is live again.'
+
+/** Taps on the same item within this time count once (a double tap, a shaky finger). */
+export const REPEAT_TAP_MS = 600
 
 let counter = 0
 
@@ -32,7 +36,8 @@ export function newCommandId(now = Date.now()): string {
 
 export function commandTarget(c: LiveCommand): string {
   switch (c.action) {
-    case 'take-area': case 'release-area': case 'force-release': case 'hand-over': return `area:${c.area}`
+    case 'take-area': case 'release-area': case 'force-release': case 'hand-over':
+    case 'accept-hand-over': case 'decline-hand-over': return `area:${c.area}`
     case 'set-override': return `signal:${c.signal}`
     case 'set-turnout': return `turnout:${c.turnout}`
     case 'interpose': return `block:${c.block}`
@@ -48,6 +53,8 @@ export function commandLabel(c: LiveCommand, def: Layout | null, people: { id: n
     case 'release-area': return `Release ${nameOf(def?.areas, c.area)}`
     case 'force-release': return `Force-release ${nameOf(def?.areas, c.area)}`
     case 'hand-over': return `Hand ${nameOf(def?.areas, c.area)} over to ${people.find(p => p.id === c.to)?.name ?? `person ${c.to}`}`
+    case 'accept-hand-over': return `Accept ${nameOf(def?.areas, c.area)}`
+    case 'decline-hand-over': return `Decline ${nameOf(def?.areas, c.area)}`
     case 'set-override': return `${{ hold: 'Hold', auto: 'Auto', clear: 'Clear' }[c.mode]} ${nameOf(def?.signals, c.signal)}`
     case 'set-turnout': return `Throw ${c.turnout} to ${c.position}`
     case 'interpose': return c.description ? `Interpose ${c.description} in ${nameOf(def?.blocks, c.block)}` : `Clear the berth in ${nameOf(def?.blocks, c.block)}`
