@@ -58,6 +58,7 @@ export const useLiveStore = defineStore('live', () => {
     if (link?.layout === layout && link.state !== 'idle') return
     disconnect()
     Object.assign(view, emptyView())
+    commands.value = []
     link = new LiveConnection({
       url: liveUrl(), layout, view, createSocket, onState, onMessage: receive,
       isOnline: () => navigator.onLine,

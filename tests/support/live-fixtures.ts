@@ -98,6 +98,16 @@ export class DemoRun {
     })
   }
 
+  /** `user` takes `area` through the real command. */
+  take(user: LiveUser, area: string): DeltaMessage {
+    return this.step(() => this.must(this.runtime.command(user, { action: 'take-area', area })))
+  }
+
+  /** The holder `from` offers `area` to `to` through the real hand-over command. */
+  offer(from: LiveUser, area: string, to: LiveUser): DeltaMessage {
+    return this.step(() => this.must(this.runtime.command(from, { action: 'hand-over', area, to: to.id })))
+  }
+
   /** Reports these controllers online or offline, as their status topics would. */
   set devices(devices: Record<string, DeviceStatus>) {
     this.step(() => {
