@@ -182,7 +182,7 @@ export class Simulation {
     const out = new Output()
     for (const [id, pos] of this.positions) out.publish(this.now, relative.turnout(id), pos, true)
     for (const b of this.layout.blocks) {
-      for (const d of b.detectors) out.publish(this.now, relative.detector(d), this.owner.has(b.id) ? '1' : '0')
+      for (const d of b.detectors) out.publish(this.now, relative.detector(d), this.owner.has(b.id) ? occupiedPayload(this.owner.get(b.id)!) : '0')
     }
     return out.publishes
   }
@@ -423,7 +423,7 @@ export class Simulation {
     t.blocks = blocks
     for (const b of entered) {
       this.owner.set(b, t)
-      this.report(b, '1', out)
+      this.report(b, occupiedPayload(t), out)
       out.say(this.now, `${t.plan.headcode} enters ${b}${this.detectorNote(b, '1')}`)
       this.maybeDropout(t, b)
     }
@@ -448,7 +448,7 @@ export class Simulation {
     return ds.length ? ` (${ds.map((d) => `${d}=${payload}`).join(', ')})` : ' (no detector)'
   }
 
-  private report(block: string, payload: '0' | '1', out: Output): void {
+  private report(block: string, payload: string, out: Output): void {
     for (const d of this.topo.blockById.get(block)!.detectors) out.publish(this.now, relative.detector(d), payload)
   }
 
@@ -481,4 +481,9 @@ export class Simulation {
     }
     this.dropouts = keep
   }
+}
+
+/** What a detector under `t` reports: `1`, or with the train's decoder address when it has one. */
+function occupiedPayload(t: Train): string {
+  return t.plan.address === undefined ? '1' : JSON.stringify({ occupied: true, address: t.plan.address })
 }

@@ -5,7 +5,8 @@ export type Parsed<T> = { ok: true, value: T } | { ok: false, reason: string }
 
 const MAX_PAYLOAD_BYTES = 1024
 
-const DetectorJson = z.object({ occupied: z.boolean(), at: z.number().int().positive().optional() }).strict()
+// `address`: the decoder address a RailCom-capable detector (NMRA S-9.3.2) read in the block
+const DetectorJson = z.object({ occupied: z.boolean(), at: z.number().int().positive().optional(), address: z.number().int().min(1).max(10239).optional() }).strict()
 const TurnoutJson = z.object({ position: z.enum(['normal', 'reverse']) }).strict()
 
 function text(payload: Buffer): Parsed<string> {
@@ -20,15 +21,15 @@ function json(value: string): unknown {
   try { return JSON.parse(value) } catch { return undefined }
 }
 
-/** `1` / `0`, or `{"occupied": true, "at"?: epoch ms}`. */
-export function parseDetectorPayload(payload: Buffer): Parsed<{ occupied: boolean, at?: number }> {
+/** `1` / `0`, or `{"occupied": true, "at"?: epoch ms, "address"?: decoder address 1-10239}`. */
+export function parseDetectorPayload(payload: Buffer): Parsed<{ occupied: boolean, at?: number, address?: number }> {
   const t = text(payload)
   if (!t.ok) return t
   if (t.value === '1') return { ok: true, value: { occupied: true } }
   if (t.value === '0') return { ok: true, value: { occupied: false } }
   const parsed = DetectorJson.safeParse(json(t.value))
   if (parsed.success) return { ok: true, value: parsed.data }
-  return { ok: false, reason: 'detector payload is 1, 0 or {"occupied": true|false, "at"?: epoch ms}' }
+  return { ok: false, reason: 'detector payload is 1, 0 or {"occupied": true|false, "at"?: epoch ms, "address"?: decoder address 1-10239}' }
 }
 
 /** `normal` / `reverse`, or `{"position": "normal" | "reverse"}`. */

@@ -49,6 +49,7 @@ export class LayoutRuntime {
   private readonly debounce: DetectorDebounce
   private readonly names: LayoutNames
   private readonly detectorBlock: Map<string, string>
+  private readonly decoders: Map<number, string>
   private readonly now: () => number
   private seq = 0
   private pendingChanges: LiveChange[] = []
@@ -73,6 +74,7 @@ export class LayoutRuntime {
     this.now = deps.now ?? Date.now
     this.engine = createEngine(deps.layout, deps.state)
     this.names = namesOf(deps.layout)
+    this.decoders = new Map(deps.layout.decoders.map(d => [d.address, d.description]))
     this.detectorBlock = new Map(deps.layout.blocks.flatMap(b => b.detectors.map(d => [d, b.id] as [string, string])))
     this.areas = Object.fromEntries(deps.layout.areas.map(a => [a.id, deps.areas?.[a.id] ?? null]))
     this.session = deps.session ?? null
@@ -98,9 +100,21 @@ export class LayoutRuntime {
 
   // ---- inputs from the hardware ----
 
-  detectorInput(detector: string, occupied: boolean, at = this.now()): void {
+  /** `address`: the decoder address the detector read in its block (RailCom), if it reports one. */
+  detectorInput(detector: string, occupied: boolean, at = this.now(), address?: number): void {
     if (!this.detectorBlock.has(detector)) return this.rejectInput(`detector/${detector}`, `unknown detector "${detector}"`)
     this.debounce.input(detector, occupied, at)
+    if (occupied && address !== undefined) this.describeFromAddress(detector, address, at)
+  }
+
+  /** The layout's decoder table names the train in the block: its description goes into the berth. */
+  private describeFromAddress(detector: string, address: number, at: number): void {
+    const block = this.detectorBlock.get(detector)!
+    const description = this.decoders.get(address)
+    if (description === undefined) return this.rejectInput(`detector/${detector}`, `decoder address ${address} is not in the layout's decoder table`)
+    const state = this.engine.state()
+    if (state.occupied[block] !== true || state.descriptions[block] === description) return
+    this.applyInput({ type: 'interpose', block, description, at, by: `decoder:${address}` }, null)
   }
 
   turnoutReport(turnout: string, position: 'normal' | 'reverse', at = this.now()): void {
@@ -366,7 +380,7 @@ export class LayoutRuntime {
     const changes = this.engine.apply(event)
     const error = changes.find(c => c.type === 'error')
     if (error && error.type === 'error') return this.rejectInput(error.path, error.message)
-    const subject = event.type === 'detector' ? event.detector : event.type === 'turnout' ? event.turnout : null
+    const subject = event.type === 'detector' ? event.detector : event.type === 'turnout' ? event.turnout : event.type === 'interpose' ? event.block : null
     this.publishAndEmit(changes, { type: `${event.type}-input`, subject, payload: { ...event }, userId: user?.id ?? null, at: event.at }, user)
   }
 
@@ -392,6 +406,7 @@ export class LayoutRuntime {
 
   private userName(id: string | undefined, user: LiveUser | null): string | null {
     if (!id) return null
+    if (id.startsWith('decoder:')) return `decoder address ${id.slice('decoder:'.length)}`
     if (user && String(user.id) === id) return user.name
     return this.connections.get(Number(id))?.user.name ?? null
   }

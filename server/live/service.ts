@@ -156,7 +156,7 @@ export class LiveService {
       if (input.kind === 'detector') {
         const parsed = parseDetectorPayload(payload)
         if (!parsed.ok) return reject(parsed.reason)
-        runtime.detectorInput(input.id, parsed.value.occupied, parsed.value.at)
+        runtime.detectorInput(input.id, parsed.value.occupied, parsed.value.at, parsed.value.address)
       } else if (input.kind === 'turnout') {
         const parsed = parseTurnoutPayload(payload)
         if (!parsed.ok) return reject(parsed.reason)

@@ -3,7 +3,7 @@ import { SCALES } from '#shared/signalling'
 import { needsThrough, topologyOf } from '#shared/signalling/topology'
 import { modelMmPerSecond, OPERATOR_HOLD_MS, Simulation } from '../../../fake-hardware/simulation'
 import type { Publish } from '../../../fake-hardware/output'
-import { circle, demoLayout, demoPlans, detectorTrail, plan, runWithEngine } from './harness'
+import { circle, demoLayout, demoPlans, detectorTrail, occupiedIn, plan, runWithEngine } from './harness'
 
 const proceedAll = (n: number) => Object.fromEntries(Array.from({ length: n }, (_, i) => [`S${i}`, 'proceed' as const]))
 
@@ -24,7 +24,7 @@ describe('scale speed of the trains', () => {
     const sim = new Simulation(circle(6, 1000, false), [plan({ headcode: '1F42', lengthMm: 300, speedKmh: 54.864, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
     const ps = runUntil(sim, {}, () => false, 30_000)
-    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && p.payload === '1')!.at
+    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
     expect(entered('D2') - entered('D1')).toBeCloseTo(5000, -1)
     expect(entered('D4') - entered('D3')).toBeCloseTo(5000, -1)
   })
@@ -34,7 +34,7 @@ describe('scale speed of the trains', () => {
     const sim = new Simulation(circle(6, 914.4, false), [plan({ headcode: '2J01', lengthMm: 300, speedKmh: 24.1196, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
     const ps = runUntil(sim, {}, () => false, 40_000)
-    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && p.payload === '1')!.at
+    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
     expect(entered('D3') - entered('D2')).toBeCloseTo(10_400, -1)
   })
 })
@@ -75,10 +75,10 @@ describe('detectors', () => {
     const state = new Map<string, string>()
     for (let i = 0; i < ps.length; i++) {
       const p = ps[i]!
-      if (p.payload === '1' && state.get(p.topic) !== 'dropout') entries++
+      if (occupiedIn(p.payload) && state.get(p.topic) !== 'dropout') entries++
       if (p.payload === '0') {
         const back = ps.slice(i + 1).find((q) => q.topic === p.topic)
-        if (back && back.payload === '1' && back.at - p.at <= 100) {
+        if (back && occupiedIn(back.payload) && back.at - p.at <= 100) {
           dropouts++
           expect(back.at - p.at).toBeGreaterThanOrEqual(30)
           state.set(p.topic, 'dropout')
@@ -232,7 +232,7 @@ describe('turnouts', () => {
     const thrownBack = ps.find((p) => p.topic === 'turnout/T4')!
     expect(thrownBack.payload).toBe('normal')
     expect(thrownBack.at - requestedAt).toBeGreaterThanOrEqual(OPERATOR_HOLD_MS)
-    const entered = ps.findIndex((p) => p.topic === 'detector/D13' && p.payload === '1')
+    const entered = ps.findIndex((p) => p.topic === 'detector/D13' && occupiedIn(p.payload))
     expect(entered).toBeGreaterThan(ps.indexOf(thrownBack))
     expect(sim.view()[0]!.blocks).toEqual(['UM4', 'FY1'])
   })
@@ -252,7 +252,7 @@ describe('turnouts', () => {
     // T7 (in DM1) is set at once for the move out of fiddle road 4: it is in the section of SF4
     expect(start.at(-1)).toMatchObject({ topic: 'turnout/T7', payload: 'reverse' })
     const ps = runUntil(sim, {}, () => sim.view()[0]!.laps === 1 && sim.view()[0]!.blocks[0] === 'FY4', 600_000, 50)
-    const trail = ps.map((p) => (p.topic.startsWith('turnout/') ? `${p.topic.slice(8)}:${p.payload}` : `${p.topic.slice(9)}=${p.payload}`))
+    const trail = ps.map((p) => (p.topic.startsWith('turnout/') ? `${p.topic.slice(8)}:${p.payload}` : `${p.topic.slice(9)}=${occupiedIn(p.payload) ? '1' : p.payload}`))
     // each turnout is set as the train enters the block of the signal whose section holds it
     expect(trail).toEqual([
       'D05=1', 'T1:reverse', 'D16=0', // into DM1; T1 (in DM2) set for the branch, section of SD1

@@ -142,3 +142,23 @@ describe('late commands', () => {
     expect(rt.state().overrides.SF1).toBe('hold')
   })
 })
+
+describe('decoder addresses from the detectors', () => {
+  it('describe the train in the block from the layout table; an address not in the table is rejected and journaled', () => {
+    const { rt, journal, feed } = runtime()
+    rt.detectorInput('D13', true, Date.now(), 142) // FY1; address 142 is 1F42 in the demo layout's decoders table
+    expect(rt.state().descriptions.FY1).toBe('1F42')
+    expect(feed().at(-1)).toBe('1F42 in Fiddle road 1 by decoder address 142')
+    rt.detectorInput('D14', true, Date.now(), 9999)
+    expect(rt.state().descriptions.FY2).toBeUndefined()
+    expect(journal.at(-1)).toMatchObject({ type: 'input-rejected', subject: 'detector/D14', payload: { reason: 'decoder address 9999 is not in the layout\'s decoder table' } })
+  })
+
+  it('leave a berth alone that already holds that description', () => {
+    const { rt, journal } = runtime()
+    rt.detectorInput('D13', true, Date.now(), 142)
+    const entries = journal.length
+    rt.detectorInput('D13', true, Date.now(), 142)
+    expect(journal.length).toBe(entries)
+  })
+})
