@@ -5,6 +5,7 @@ import { interposeVerdict, signalVerdict, turnoutVerdict } from '#shared/live/ri
 import { roleAtLeast } from '#shared/utils/roles'
 
 const NOT_LIVE = 'Not connected: controls wait until the panel is live again.'
+const NO_WORD_YET = 'No word from the server: controls wait until it answers again.'
 
 /**
  * The Panel's glue between the live store, the signed-in person and the controls: what they may work
@@ -19,7 +20,7 @@ export function usePanel() {
   const isSignaller = computed(() => !!user.value && roleAtLeast(user.value.role, 'signaller'))
 
   function gate(v: Verdict): Verdict {
-    if (v.allowed && !isLive.value) return { allowed: false, area: v.area, reason: NOT_LIVE }
+    if (v.allowed && !isLive.value) return { allowed: false, area: v.area, reason: live.connection === 'stale' ? NO_WORD_YET : NOT_LIVE }
     return v
   }
 

@@ -35,6 +35,7 @@ PG_EXTRA_OPTS="-c fsync=off -c synchronous_commit=off -c full_page_writes=off" p
 pg_create_db blockbell_e2e
 pg_create_db blockbell_db_tests
 pg_create_db blockbell_restart
+pg_create_db blockbell_panel_live
 
 export BLOCKBELL_DB_HOST=127.0.0.1 BLOCKBELL_DB_PORT="$PG_PORT" BLOCKBELL_DB_USER="$PG_USER" BLOCKBELL_DB_PASSWORD="$PG_PASSWORD"
 export BLOCKBELL_DB_TEST_NAME=blockbell_db_tests
