@@ -36,7 +36,7 @@ describe('the Panel when the server goes quiet, and areas changing hands (Debian
     await page.getByRole('button', { name: 'Sign in' }).click()
     await page.waitForURL(url => !url.pathname.startsWith('/sign-in'))
     await page.goto('/panel/wrenfold')
-    await expect.poll(() => badge(page), { timeout: 15_000 }).toBe('live')
+    await page.waitForSelector('[data-test="connection"][data-state="live"]', { timeout: 15_000 })
     return session
   }
 
