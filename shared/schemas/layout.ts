@@ -123,7 +123,7 @@ export const DecoderEntry = z.object({
     .regex(/^[A-Z0-9](?:[A-Z0-9 -]*[A-Z0-9])?$/, 'a description is capital letters, digits, inner spaces and hyphens, e.g. 1F42'),
 })
 
-export const EMPTY_DIAGRAM = { width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] }
+const EMPTY_DIAGRAM = { width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] }
 
 export const LayoutDefinition = z.object({
   schema: z.literal(1, 'schema must be 1'),

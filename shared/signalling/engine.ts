@@ -362,7 +362,7 @@ function describedElsewhere(state: LayoutState, description: string): boolean {
 }
 
 /**
- * Berth stepping when the rear of a train clears (REFERENCES.md §5, CA Berth Step, with occupancy as the
+ * Berth stepping when the rear of a train clears (docs/sources.md §5, CA Berth Step, with occupancy as the
  * stepping condition): the block ahead of `block` on the set route that is occupied and has no description
  * (the front of a train standing across both), entered no earlier than `block` itself was. Among several,
  * the one entered most recently.

@@ -440,7 +440,7 @@ describe('train descriptions', () => {
     expect(state.descriptions).toEqual({ W: '2B20' })
   })
 
-  // Berth stepping (REFERENCES.md §5: a CA Berth Step moves a description on when the stepping conditions
+  // Berth stepping (docs/sources.md §5: a CA Berth Step moves a description on when the stepping conditions
   // hold); the condition used here — the rear block clears while the block ahead on the set route is occupied
   // and undescribed, i.e. a train standing across both — is our own rule.
   it('moves on from a cleared block into the occupied, undescribed block ahead (train standing across two)', () => {
