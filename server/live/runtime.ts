@@ -1,6 +1,6 @@
 import type { Layout, LayoutArea } from '#shared/schemas/layout'
 import { createEngine, type Change, type Engine, type LayoutEvent, type LayoutState } from '#shared/signalling'
-import { COMMAND_MAX_AGE_MS, type AreaHolders, type HandOverOffers, type UnattendedAreas, DeviceStatus, FeedEntry, LiveChange, LiveCommand, LiveSession, LiveUser, ServerMessage } from '#shared/live/protocol'
+import { COMMAND_MAX_AGE_MS, type AreaHolders, type DeviceStatus, type FeedEntry, type HandOverOffers, type LiveChange, type LiveCommand, type LiveSession, type LiveUser, type ServerMessage, type UnattendedAreas } from '#shared/live/protocol'
 import { describeChange, namesOf, type LayoutNames } from '#shared/live/feed'
 import { acknowledgeVerdict, areaVerdict, handOverTargetVerdict, interposeVerdict, signalVerdict, turnoutVerdict, type Verdict } from '#shared/live/rights'
 import { roleAtLeast } from '#shared/utils/roles'

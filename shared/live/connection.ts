@@ -123,8 +123,7 @@ export class LiveConnection {
     let socket: SocketLike
     try {
       socket = this.o.createSocket(this.o.url)
-    }
-    catch {
+    } catch {
       this.dropped()
       return
     }
@@ -151,27 +150,23 @@ export class LiveConnection {
     let msg: ServerMessage
     try {
       msg = JSON.parse(typeof raw === 'string' ? raw : String(raw)) as ServerMessage
-    }
-    catch {
+    } catch {
       return
     }
     if (!msg || typeof msg !== 'object' || typeof msg.type !== 'string') return
     if (this.state === 'stale') this.setState('live')
     if (msg.type === 'heartbeat') {
       if (typeof msg.at === 'number') this.clockOffset = msg.at - Date.now()
-    }
-    else if (msg.type === 'snapshot') {
+    } else if (msg.type === 'snapshot') {
       if (msg.layout !== this.o.layout) return
       applySnapshot(this.o.view, msg)
       this.resyncing = false
       if (this.resyncTimer) clearTimeout(this.resyncTimer)
       this.attempt = 0
       this.setState('live')
-    }
-    else if (msg.type === 'delta') {
+    } else if (msg.type === 'delta') {
       if (applyDelta(this.o.view, msg) === 'gap' && !this.resyncing) this.resync()
-    }
-    else {
+    } else {
       this.o.onMessage(msg)
     }
   }
@@ -217,8 +212,7 @@ export class LiveConnection {
     s.onopen = s.onmessage = s.onclose = s.onerror = null
     try {
       s.close(code, reason)
-    }
-    catch { /* already closed */ }
+    } catch { /* already closed */ }
   }
 
   private clearTimers(): void {

@@ -112,7 +112,7 @@ describe('hand-over waits for the receiver', () => {
 
 describe('area commands are idempotent', () => {
   it('Take when you hold it does nothing and says so; Release of a free area does nothing; the same offer twice is one', () => {
-    const { rt, sent, journal } = runtime()
+    const { rt, journal } = runtime()
     rt.connect(tam)
     rt.connect(rue)
     rt.command(tam, { action: 'take-area', area: 'main' })
