@@ -61,7 +61,7 @@ describe('LiveConnection', () => {
 
   it('reads stale when the server goes quiet with the socket still open, and live again at its next word', async () => {
     const run = new DemoRun()
-    const server = await startServer(run)
+    const server = await startServer(run, { heartbeatMs: null })
     servers.push(server)
     const { link, states } = connect(server.url, { staleAfterMs: 150 })
     await expect.poll(() => link.state).toBe('live')
