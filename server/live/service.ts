@@ -43,7 +43,7 @@ const log = (message: string) => console.log(`[blockbell] ${message}`)
 export class LiveService {
   readonly hub = new PanelHub()
   readonly runtimes = new Map<string, LayoutRuntime>()
-  readonly counters = { mqttRejected: 0, mqttUnknownLayout: 0 }
+  readonly counters = { mqttRejected: 0, mqttUnknownLayout: 0, mqttTimeReplaced: 0 }
   private broker: RunningBroker | null = null
   private client: MqttClient | null = null
   private journal: Journal
@@ -136,6 +136,10 @@ export class LiveService {
       if (input.kind === 'detector') {
         const parsed = parseDetectorPayload(payload)
         if (!parsed.ok) return reject(parsed.reason)
+        if (parsed.value.timeReplaced) {
+          this.counters.mqttTimeReplaced++
+          if (this.counters.mqttTimeReplaced <= 20 || this.counters.mqttTimeReplaced % 1000 === 0) log(`MQTT message on ${topic}: ${parsed.value.timeReplaced} (${this.counters.mqttTimeReplaced} so far)`)
+        }
         runtime.detectorInput(input.id, parsed.value.occupied, parsed.value.at)
       } else if (input.kind === 'turnout') {
         const parsed = parseTurnoutPayload(payload)
