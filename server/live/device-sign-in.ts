@@ -1,18 +1,20 @@
 /**
- * Device sign-in on the broker: failures throttled per username and per client address in a sliding window
- * (OWASP Authentication Cheat Sheet, "Login Throttling"), and password checks run one at a time with a
- * short queue. Password hashing (scrypt) runs on libuv's small thread pool, which web sign-in shares: a
+ * Device sign-in on the broker: failures throttled per username and client address pair, per address, and
+ * (more slowly) per username, in a sliding window (OWASP Authentication Cheat Sheet, "Login Throttling"), so
+ * guessing from one address cannot lock a device out from its own. Password checks run one at a time with
+ * a short queue. Password hashing (scrypt) runs on libuv's small thread pool, which web sign-in shares: a
  * flood of device attempts must not take all of it.
  */
 export interface DeviceSignInLimits {
   windowMs: number,
-  perUsername: number,
+  perPair: number,
   perAddress: number,
+  perUsername: number,
   /** Checks waiting for their turn before further attempts are refused at once. */
   maxWaiting: number,
 }
 
-export const DEVICE_SIGN_IN_LIMITS: DeviceSignInLimits = { windowMs: 5 * 60_000, perUsername: 10, perAddress: 30, maxWaiting: 8 }
+export const DEVICE_SIGN_IN_LIMITS: DeviceSignInLimits = { windowMs: 5 * 60_000, perPair: 10, perAddress: 30, perUsername: 100, maxWaiting: 8 }
 
 export type DeviceSignInResult = 'ok' | 'wrong' | 'throttled' | 'busy'
 
@@ -26,7 +28,11 @@ export class DeviceSignInGuard {
 
   /** Runs `verify` (true when the password is right) unless the attempt is throttled or the queue is full. */
   async attempt(username: string, address: string, verify: () => Promise<boolean>): Promise<DeviceSignInResult> {
-    const keys: [string, number][] = [[`user:${username}`, this.limits.perUsername], [`address:${address}`, this.limits.perAddress]]
+    const keys: [string, number][] = [
+      [`pair:${username}@${address}`, this.limits.perPair],
+      [`address:${address}`, this.limits.perAddress],
+      [`user:${username}`, this.limits.perUsername],
+    ]
     // Attempts still being checked count as failures: parallel guesses cannot slip in under the limit.
     if (keys.some(([key, limit]) => this.recent(key).length + (this.pending.get(key) ?? 0) >= limit)) return 'throttled'
     if (this.waiting >= this.limits.maxWaiting) return 'busy'
@@ -36,7 +42,7 @@ export class DeviceSignInGuard {
     this.tail = turn
     try {
       const ok = await turn
-      if (ok) this.failures.delete(`user:${username}`)
+      if (ok) this.failures.delete(`pair:${username}@${address}`)
       else for (const [key] of keys) this.failures.set(key, [...this.recent(key), this.now()])
       return ok ? 'ok' : 'wrong'
     } finally {

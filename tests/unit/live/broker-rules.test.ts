@@ -76,7 +76,7 @@ describe('device sign-in throttle', () => {
   })
 
   it('checks one password at a time and refuses the rest of a parallel flood at once', async () => {
-    const guard = new DeviceSignInGuard({ windowMs: 60_000, perUsername: 1000, perAddress: 1000, maxWaiting: 4 })
+    const guard = new DeviceSignInGuard({ windowMs: 60_000, perPair: 1000, perAddress: 1000, perUsername: 1000, maxWaiting: 4 })
     const log: string[] = []
     const results = await Promise.all(Array.from({ length: 100 }, (_, i) => guard.attempt(`guess-${i}`, '192.0.2.7', slowCheck(false, log))))
     expect(results.filter(r => r === 'wrong')).toHaveLength(4)
@@ -84,17 +84,20 @@ describe('device sign-in throttle', () => {
     expect(log.join(',')).toBe('start,end,start,end,start,end,start,end') // never two at once
   })
 
-  it('throttles a username and an address after their limits, failures in progress included', async () => {
+  it('throttles a name from one address, then the address, then (more slowly) the name everywhere, failures in progress included', async () => {
     let now = 1_000_000
-    const guard = new DeviceSignInGuard({ windowMs: 60_000, perUsername: 3, perAddress: 5, maxWaiting: 100 }, () => now)
+    const guard = new DeviceSignInGuard({ windowMs: 60_000, perPair: 3, perAddress: 5, perUsername: 6, maxWaiting: 100 }, () => now)
     const log: string[] = []
     const first = await Promise.all(Array.from({ length: 5 }, () => guard.attempt('board-7', '192.0.2.7', slowCheck(false, log))))
     expect(first).toEqual(['wrong', 'wrong', 'wrong', 'throttled', 'throttled'])
-    expect(await guard.attempt('board-7', '198.51.100.9', slowCheck(true, log))).toBe('throttled') // the name, from elsewhere
+    expect(await guard.attempt('board-7', '192.0.2.7', slowCheck(true, log))).toBe('throttled')
+    expect(await guard.attempt('board-7', '198.51.100.9', slowCheck(true, log))).toBe('ok') // the device itself, from its own address
     expect(await guard.attempt('board-8', '192.0.2.7', slowCheck(false, log))).toBe('wrong')
     expect(await guard.attempt('board-9', '192.0.2.7', slowCheck(false, log))).toBe('wrong')
     expect(await guard.attempt('board-10', '192.0.2.7', slowCheck(true, log))).toBe('throttled') // the address
+    for (const address of ['203.0.113.1', '203.0.113.2', '203.0.113.3']) expect(await guard.attempt('board-7', address, slowCheck(false, log))).toBe('wrong')
+    expect(await guard.attempt('board-7', '203.0.113.4', slowCheck(true, log))).toBe('throttled') // the name, from many addresses
     now += 60_001
-    expect(await guard.attempt('board-7', '198.51.100.9', slowCheck(true, log))).toBe('ok')
+    expect(await guard.attempt('board-7', '192.0.2.7', slowCheck(true, log))).toBe('ok')
   })
 })
