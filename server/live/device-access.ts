@@ -1,4 +1,4 @@
-import { TOPIC_ROOT } from './topics'
+import { isRetainedInput, TOPIC_ROOT } from '#shared/live/topics'
 
 /** Who an MQTT connection is, as the broker's permission checks need it. */
 export interface BrokerIdentity {
@@ -33,8 +33,7 @@ export function devicePublishAllowed(topic: string, identity: BrokerIdentity): b
 
 /** Topics a device may keep a retained message on: its turnouts' positions and its own status. */
 export function deviceRetainAllowed(topic: string): boolean {
-  const kind = topic.split('/')[3]
-  return kind === 'turnout' || kind === 'device'
+  return isRetainedInput(topic.split('/').slice(3).join('/'))
 }
 
 /**

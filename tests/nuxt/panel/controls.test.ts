@@ -66,7 +66,7 @@ describe('signal control sheet', () => {
 
   it('gives a viewer the aspect but no controls', async () => {
     signIn(MILO)
-    const ctx = await goLive(held({ branch: MILO }))
+    const ctx = await goLive(held({ branch: TAM }))
     server = ctx.server
     const w = await mountSuspended(PanelSignalSheet, { props: { signal: 'SU1' } })
     expect(w.find('[data-test="sheet-aspect"]').exists()).toBe(true)
