@@ -39,6 +39,9 @@ const MAX_RETAINED_BYTES = 1024
 const identities = new WeakMap<Client, BrokerIdentity>()
 const subscriptions = new WeakMap<Client, Set<string>>()
 
+// aedes keeps its connected clients by client id; its type declarations leave the map out.
+const clientsOf = (broker: Aedes) => (broker as unknown as { clients: Record<string, Client> }).clients
+
 const refusal = (message: string, returnCode: number) => Object.assign(new Error(message), { returnCode }) as never
 
 /** Starts the embedded MQTT broker (aedes) on the loopback interface, with device sign-in and permissions. */
@@ -51,7 +54,7 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
     authenticate: (client, username, password, done) => {
       const accept = (identity: BrokerIdentity) => {
         // A connection with a client id in use replaces the old one (MQTT 3.1.1 §3.1.4): only for the same account.
-        const holder = broker.clients[client.id]
+        const holder = clientsOf(broker)[client.id]
         if (holder && holder !== client && identities.get(holder)?.username !== identity.username) {
           options.log(`MQTT client ${client.id} refused: that client id is in use by another account`)
           return done(refusal('client id in use', 2), false)
@@ -77,9 +80,13 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
         return Boolean(found)
       }).then((result) => {
         if (result === 'ok') return accept({ kind: 'device', username, layout })
-        if (result === 'wrong') options.log(`MQTT client ${client.id} refused: wrong username or password for "${username}"`)
-        else options.log(`MQTT client ${client.id} from ${address} refused: too many sign-in attempts for "${username}" (${result})`)
-        done(refusal(result === 'wrong' ? 'bad credentials' : 'too many attempts; try again later', result === 'wrong' ? 4 : 3), false)
+        if (result === 'wrong') {
+          options.log(`MQTT client ${client.id} refused: wrong username or password for "${username}"`)
+          return done(refusal('bad credentials', 4), false)
+        }
+        if (result === 'unavailable') return done(refusal('server unavailable', 3), false)
+        options.log(`MQTT client ${client.id} from ${address} refused: too many sign-in attempts for "${username}" (${result})`)
+        done(refusal('too many attempts; try again later', 3), false)
       }, () => done(refusal('server unavailable', 3), false))
     },
     authorizePublish: (client, packet, done) => {
@@ -136,7 +143,7 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
     port,
     disconnectDevice: (username) => {
       let closed = 0
-      for (const client of Object.values(broker.clients)) {
+      for (const client of Object.values(clientsOf(broker))) {
         const identity = identities.get(client)
         if (identity?.kind === 'device' && identity.username === username) { client.close(); closed++ }
       }

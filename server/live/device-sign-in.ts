@@ -16,7 +16,8 @@ export interface DeviceSignInLimits {
 
 export const DEVICE_SIGN_IN_LIMITS: DeviceSignInLimits = { windowMs: 5 * 60_000, perPair: 10, perAddress: 30, perUsername: 100, maxWaiting: 8 }
 
-export type DeviceSignInResult = 'ok' | 'wrong' | 'throttled' | 'busy'
+/** `unavailable`: the check itself failed (e.g. the database is away); not counted as a failure. */
+export type DeviceSignInResult = 'ok' | 'wrong' | 'throttled' | 'busy' | 'unavailable'
 
 export class DeviceSignInGuard {
   private failures = new Map<string, number[]>()
@@ -38,10 +39,11 @@ export class DeviceSignInGuard {
     if (this.waiting >= this.limits.maxWaiting) return 'busy'
     this.waiting++
     for (const [key] of keys) this.pending.set(key, (this.pending.get(key) ?? 0) + 1)
-    const turn = this.tail.then(verify).catch(() => false)
+    const turn = this.tail.then(verify).then(ok => ok, () => null)
     this.tail = turn
     try {
       const ok = await turn
+      if (ok === null) return 'unavailable'
       if (ok) this.failures.delete(`pair:${username}@${address}`)
       else for (const [key] of keys) this.failures.set(key, [...this.recent(key), this.now()])
       return ok ? 'ok' : 'wrong'

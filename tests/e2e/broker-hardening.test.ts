@@ -105,6 +105,16 @@ describe('broker memory', () => {
     expect(await closed(client)).toBe(true)
   })
 
+  it('queues nothing for a device that keeps a session (granted QoS 0), and caps its subscriptions at 200', async () => {
+    const kept = await device({ ...FAKE, clean: false, clientId: `kept-${unique()}`.slice(0, 23) })
+    const [granted] = await kept.subscribeAsync(`${PREFIX}signal/+`, { qos: 1 })
+    expect(granted!.qos).toBe(0)
+    const fresh = await device(FAKE)
+    const many = await fresh.subscribeAsync(Array.from({ length: 201 }, (_, i) => `${PREFIX}signal/S${i}`), { qos: 1 })
+    expect(many.filter(g => g.qos === 1)).toHaveLength(200)
+    expect(many.at(-1)!.qos).toBe(128)
+  })
+
   it('does not keep a retained message on a detector topic', async () => {
     await mosquittoPub(mqttPort, `${PREFIX}detector/D14`, '0', ['-u', FAKE.username, '-P', FAKE.password, '-r'])
     await waitForOutput(new RegExp(`to ${PREFIX}detector/D14: not kept as retained`))

@@ -1,7 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import fc from 'fast-check'
 // mqtt-packet (the MQTT codec mqtt.js and aedes use) writes the reference packets the guard must frame.
-// @ts-expect-error mqtt-packet ships no types
 import mqttPacket from 'mqtt-packet'
 import { devicePublishAllowed, deviceRetainAllowed, deviceSubscribeAllowed, type BrokerIdentity } from '../../../server/live/device-access'
 import { DeviceSignInGuard } from '../../../server/live/device-sign-in'
@@ -99,5 +98,11 @@ describe('device sign-in throttle', () => {
     expect(await guard.attempt('board-7', '203.0.113.4', slowCheck(true, log))).toBe('throttled') // the name, from many addresses
     now += 60_001
     expect(await guard.attempt('board-7', '192.0.2.7', slowCheck(true, log))).toBe('ok')
+  })
+
+  it('does not count a check that could not be made (database away) as a wrong password', async () => {
+    const guard = new DeviceSignInGuard({ windowMs: 60_000, perPair: 2, perAddress: 2, perUsername: 2, maxWaiting: 10 })
+    for (let i = 0; i < 5; i++) expect(await guard.attempt('board-7', '192.0.2.7', () => Promise.reject(new Error('connection refused')))).toBe('unavailable')
+    expect(await guard.attempt('board-7', '192.0.2.7', () => Promise.resolve(true))).toBe('ok')
   })
 })
