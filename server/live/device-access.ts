@@ -2,11 +2,11 @@ import { isRetainedInput, TOPIC_ROOT } from '#shared/live/topics'
 
 /** Who an MQTT connection is, as the broker's permission checks need it. */
 export interface BrokerIdentity {
-  kind: 'server' | 'device' | 'anonymous',
+  kind: 'server' | 'device' | 'anonymous'
   /** The device's username, which is also its device id in `device/<id>/status`; null for anonymous. */
-  username: string | null,
+  username: string | null
   /** The slug of the device's layout; null when it serves every layout (or is anonymous, in demo mode). */
-  layout: string | null,
+  layout: string | null
 }
 
 const ROOT = TOPIC_ROOT.split('/')

@@ -6,12 +6,12 @@
  * flood of device attempts must not take all of it.
  */
 export interface DeviceSignInLimits {
-  windowMs: number,
-  perPair: number,
-  perAddress: number,
-  perUsername: number,
+  windowMs: number
+  perPair: number
+  perAddress: number
+  perUsername: number
   /** Checks waiting for their turn before further attempts are refused at once. */
-  maxWaiting: number,
+  maxWaiting: number
 }
 
 export const DEVICE_SIGN_IN_LIMITS: DeviceSignInLimits = { windowMs: 5 * 60_000, perPair: 10, perAddress: 30, perUsername: 100, maxWaiting: 8 }

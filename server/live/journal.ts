@@ -101,7 +101,7 @@ const sleep = (ms: number) => new Promise(done => setTimeout(done, Math.max(0, m
 /** The promise's result, or false when it takes longer than `ms`. */
 function within(work: Promise<boolean>, ms: number): Promise<boolean> {
   let timer: NodeJS.Timeout
-  const late = new Promise<false>(done => { timer = setTimeout(() => done(false), Math.max(0, ms)) })
+  const late = new Promise<false>((done) => { timer = setTimeout(() => done(false), Math.max(0, ms)) })
   return Promise.race([work, late]).finally(() => clearTimeout(timer))
 }
 
@@ -354,7 +354,7 @@ class EventJournal implements Journal {
     }
     this.spilling = this.spill.append(entries).then(
       () => this.dropFromMemory(this.spill.durableSeq),
-      error => {
+      (error) => {
         this.spillRetryAfter = Date.now() + this.retryMs
         this.lastError = describe(error)
         this.log(`Journal: cannot write the spill file ${this.spill.path} (${this.lastError}); entries stay in memory`)

@@ -4,11 +4,11 @@ import type { JournalStats } from '../live/journal'
 export const JOURNAL_STALLED_AFTER_MS = 30_000
 
 export interface JournalHealth {
-  status: 'ok' | 'stalled',
+  status: 'ok' | 'stalled'
   /** Entries that could never be stored and were set aside (admins see them at /api/journal/set-aside). */
-  setAside: number,
+  setAside: number
   /** Since when writes have failed (ISO time), or null. */
-  failingSince: string | null,
+  failingSince: string | null
 }
 
 export function journalHealth(stats: JournalStats, now = Date.now()): JournalHealth {

@@ -93,7 +93,19 @@ describe('broker memory', () => {
   it('closes a connection whose CONNECT announces 200 MB, before any sign-in', async () => {
     const socket = tcpConnect(mqttPort, '127.0.0.1')
     await new Promise(resolve => socket.once('connect', resolve))
-    const ended = new Promise<number>((resolve) => { let sent = 0; socket.on('close', () => resolve(sent)); socket.on('error', () => {}); const chunk = Buffer.alloc(64 * 1024); const pump = () => { while (!socket.destroyed && sent < 4 * 1024 * 1024 && socket.write(chunk)) sent += chunk.length; if (!socket.destroyed && sent < 4 * 1024 * 1024) socket.once('drain', pump) }; socket.write(Buffer.from([0x10, 0x80, 0x80, 0x80, 0x60])); pump() })
+    // The fixed header of a CONNECT announcing 201,326,592 bytes, then up to 4 MB of body.
+    let sent = 0
+    const ended = new Promise<number>((resolve) => {
+      socket.on('close', () => resolve(sent))
+      socket.on('error', () => {})
+    })
+    const chunk = Buffer.alloc(64 * 1024)
+    const pump = () => {
+      while (!socket.destroyed && sent < 4 * 1024 * 1024 && socket.write(chunk)) sent += chunk.length
+      if (!socket.destroyed && sent < 4 * 1024 * 1024) socket.once('drain', pump)
+    }
+    socket.write(Buffer.from([0x10, 0x80, 0x80, 0x80, 0x60]))
+    pump()
     const result = await Promise.race([ended, new Promise<string>(resolve => setTimeout(() => resolve('still open'), 5000))])
     expect(result).not.toBe('still open')
     await waitForOutput(/closed: a packet over 16384 bytes/)
