@@ -51,6 +51,12 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
     // Inbound QoS 2 messages one client may leave waiting for PUBREL (aedes keeps each in memory).
     maxInflightInbound: 16,
     connectTimeout: 10_000,
+    // Every device gets a clean session: nothing piles up in memory for a device that is away, and a request
+    // to throw a turnout is never carried out minutes late; signals come back from the retained messages.
+    preConnect: (_client, packet, done) => {
+      if (packet.username !== options.internal.username) packet.clean = true
+      done(null, true)
+    },
     authenticate: (client, username, password, done) => {
       const accept = (identity: BrokerIdentity) => {
         // A connection with a client id in use replaces the old one (MQTT 3.1.1 §3.1.4): only for the same account.
@@ -112,9 +118,7 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
         return done(null, null) // refused in the SUBACK (return code 0x80)
       }
       held.add(sub.topic)
-      // Nothing is queued for a device that is away: it gets indications from the retained messages when it
-      // comes back, and a turnout request must not be carried out minutes after it was made.
-      done(null, client.clean ? sub : { ...sub, qos: 0 })
+      done(null, sub)
     },
   })
   const server: Server = createServer((socket) => {
