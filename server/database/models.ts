@@ -11,6 +11,7 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   declare role: Role
   declare passwordHash: string
   declare disabledAt: CreationOptional<Date | null>
+  declare sessionVersion: CreationOptional<number>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 }
@@ -87,6 +88,7 @@ export function defineModels(sequelize: Sequelize): Models {
     role: { type: DataTypes.STRING(16), allowNull: false },
     passwordHash: { type: DataTypes.STRING(255), allowNull: false },
     disabledAt: { type: DataTypes.DATE, allowNull: true },
+    sessionVersion: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
     createdAt: DataTypes.DATE,
     updatedAt: DataTypes.DATE,
   }, { sequelize, tableName: 'users', ...timestamps })

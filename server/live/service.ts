@@ -6,6 +6,7 @@ import type { ServerMessage } from '#shared/live/protocol'
 import type { Database } from '../database/connection'
 import { verifyPasswordOutsideNitro } from '../database/password-hash'
 import { startBroker, type RunningBroker } from './broker'
+import type { PanelConnection } from './connection'
 import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
 import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } from './payloads'
@@ -48,6 +49,8 @@ export class LiveService {
   private client: MqttClient | null = null
   private journal: Journal
   private ready: Promise<void>
+  private panels = new Set<PanelConnection>()
+  private sessionVersions = new Map<number, number>()
 
   constructor(private readonly db: Database, private readonly settings: LiveSettings) {
     this.journal = createJournal({ sequelize: db.sequelize, spillDir: join(settings.dataDir, 'journal-spill'), log })
@@ -57,6 +60,32 @@ export class LiveService {
   whenReady(): Promise<void> { return this.ready }
 
   runtime(slug: string): LayoutRuntime | undefined { return this.runtimes.get(slug) }
+
+  addPanel(panel: PanelConnection): void { this.panels.add(panel) }
+  removePanel(panel: PanelConnection): void { this.panels.delete(panel) }
+
+  /** Records an account's session version as read from the database (only ever moves forward). */
+  noteSessionVersion(userId: number, version: number): void {
+    if (version > (this.sessionVersions.get(userId) ?? -1)) this.sessionVersions.set(userId, version)
+  }
+
+  sessionCurrent(userId: number, version: number): boolean {
+    return (this.sessionVersions.get(userId) ?? version) === version
+  }
+
+  /**
+   * An account's sessions have ended (its session version is now `version`): its panels are closed at
+   * once and, for a disabled account, the areas it held are released on every layout.
+   */
+  endSessionsOf(userId: number, version: number, { releaseAreas }: { releaseAreas: boolean }): void {
+    this.noteSessionVersion(userId, version)
+    for (const panel of [...this.panels]) {
+      if (panel.user.id !== userId || panel.sessionVersion === version) continue
+      this.panels.delete(panel)
+      panel.end()
+    }
+    if (releaseAreas) for (const runtime of this.runtimes.values()) runtime.releaseAreasOf(userId)
+  }
 
   private async start(): Promise<void> {
     // Entries a previous run left in the spill file go in first, so the restored state includes them.

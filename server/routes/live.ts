@@ -4,13 +4,17 @@ import { PanelConnection } from '../live/connection'
 // Messages may arrive while `open` is still loading the user: they wait for the connection.
 const connections = new WeakMap<Peer, Promise<PanelConnection | null>>()
 
+const DATABASE_AWAY = 'the database is not reachable just now; try again in a moment'
+
 async function openConnection(peer: Peer): Promise<PanelConnection | null> {
-  const { user: sessionUser } = await requireUserSession(peer as never)
-  const user = await loadLiveUser(sessionUser.id)
-  if (!user) { peer.close(4001, 'account disabled'); return null }
+  const session = await requireUserSession(peer as never)
+  const sessionVersion = session.secure?.sessionVersion
+  const user = await loadLiveUser(session.user.id, sessionVersion)
+  if (!user) { peer.close(4001, 'session ended'); return null }
   const live = useLive()
   await live.whenReady()
-  const connection = new PanelConnection(peer, user, live, () => loadLiveUser(user.id))
+  const connection = new PanelConnection(peer, user, sessionVersion!, live, () => loadLiveUser(user.id, sessionVersion))
+  live.addPanel(connection)
   connection.send({ type: 'welcome', user })
   return connection
 }
@@ -22,7 +26,12 @@ export default defineWebSocketHandler({
     if (!originAllowed(request.headers)) throw new Response('Forbidden: foreign origin', { status: 403 })
     const session = await getUserSession(request as never).catch(() => null)
     if (!session?.user) throw new Response('Unauthorized: sign in first', { status: 401 })
-    if (!await loadLiveUser(session.user.id)) throw new Response('Unauthorized: account disabled', { status: 401 })
+    // crossws refuses the upgrade only for a thrown Response: any other error would leave the client hanging.
+    const user = await loadLiveUser(session.user.id, session.secure?.sessionVersion).catch((error: Error) => {
+      console.error(`[blockbell] live handshake: ${error.message}`)
+      throw new Response(`Service Unavailable: ${DATABASE_AWAY}`, { status: 503 })
+    })
+    if (!user) throw new Response('Unauthorized: session ended, sign in again', { status: 401 })
   },
   open(peer) {
     connections.set(peer, openConnection(peer).catch((error: Error) => {
@@ -37,7 +46,10 @@ export default defineWebSocketHandler({
   },
   async close(peer) {
     const connection = await connections.get(peer)
-    connection?.leave()
+    if (connection) {
+      connection.leave()
+      useLive().removePanel(connection)
+    }
     connections.delete(peer)
   },
 })

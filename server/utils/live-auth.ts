@@ -1,15 +1,20 @@
 import type { LiveUser } from '#shared/live/protocol'
 
-/** The user behind a session user id, as the live side needs them; null when missing or disabled. */
-export async function loadLiveUser(id: number): Promise<LiveUser | null> {
+/**
+ * The user behind a session, as the live side needs them; null when the account is missing, disabled, or
+ * its session version has moved on since the session was sealed.
+ */
+export async function loadLiveUser(id: number, sessionVersion: number | undefined): Promise<LiveUser | null> {
   const row = await useDatabase().models.User.findByPk(id)
-  if (!row || row.disabledAt) return null
+  if (!sessionMatches({ secure: sessionVersion === undefined ? undefined : { sessionVersion } }, row)) return null
+  runningLive()?.noteSessionVersion(row.id, row.sessionVersion)
   return { id: row.id, name: row.name, role: row.role }
 }
 
 /**
- * Cross-site WebSocket hijacking defence (OWASP WebSocket Security Cheat Sheet): the Origin must be this
- * server's own, or one listed in BLOCKBELL_ALLOWED_ORIGINS (comma-separated).
+ * Cross-site request defence, for the WebSocket handshake (OWASP WebSocket Security Cheat Sheet) and every
+ * state-changing request: the Origin must be this server's own, or one listed in BLOCKBELL_ALLOWED_ORIGINS
+ * (comma-separated).
  */
 export function originAllowed(headers: Headers): boolean {
   const origin = headers.get('origin')

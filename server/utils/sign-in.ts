@@ -6,7 +6,7 @@ let dummyHash: Promise<string> | undefined
 
 /** Checks e-mail and password, with throttling of repeated failures, and opens a sealed cookie session. */
 export async function signIn(event: H3Event, { email, password }: SignInBody): Promise<SessionUser> {
-  const client = getRequestIP(event) ?? 'unknown'
+  const client = clientAddress(event)
   const wait = signInRetryAfter(email, client)
   if (wait > 0) {
     setResponseHeader(event, 'Retry-After', wait)
@@ -22,8 +22,16 @@ export async function signIn(event: H3Event, { email, password }: SignInBody): P
     throw createError({ statusCode: 401, message: 'Wrong e-mail address or password.' })
   }
   if (row.disabledAt) throw createError({ statusCode: 403, message: 'This account has been disabled. Ask an admin to enable it again.' })
-  clearSignInFailures(email)
-  const user: SessionUser = { id: row.id, email: row.email, name: row.name, role: row.role }
-  await replaceUserSession(event, { user, loggedInAt: Date.now() })
-  return user
+  clearSignInFailures(email, client)
+  return openSession(event, row)
+}
+
+/**
+ * Signs out. The account's session version is raised, so this ends its sessions on every device, not
+ * only this cookie (one version per account is all the server keeps).
+ */
+export async function signOut(event: H3Event): Promise<void> {
+  const session = await getUserSession(event)
+  if (session.user) await bumpSessionVersion(session.user.id)
+  await endSession(event)
 }
