@@ -1,6 +1,7 @@
 import type { Peer } from 'crossws'
 import { ClientMessage, MAX_MESSAGE_BYTES, type LiveUser, type ServerMessage } from '#shared/live/protocol'
 import { describeIssues } from '../utils/validation'
+import type { LiveSession } from '../utils/live-auth'
 import type { LiveService } from './service'
 
 const RATE_PER_SECOND = 20
@@ -15,7 +16,7 @@ export class PanelConnection {
   constructor(
     readonly peer: Peer,
     public user: LiveUser,
-    readonly sessionVersion: number,
+    readonly session: LiveSession,
     private readonly live: LiveService,
     private readonly recheckUser: () => Promise<LiveUser | null>,
   ) {}
@@ -41,7 +42,7 @@ export class PanelConnection {
   async receive(raw: string): Promise<void> {
     // Every message is checked against the account's session version known in this process; commands
     // also read the account from the database.
-    if (!this.live.sessionCurrent(this.user.id, this.sessionVersion)) return this.end()
+    if (!this.live.sessionCurrent(this.session)) return this.end()
     if (!this.allow()) return this.send({ type: 'error', message: `Too many messages: at most ${RATE_PER_SECOND} a second.` })
     if (Buffer.byteLength(raw) > MAX_MESSAGE_BYTES) return this.send({ type: 'error', message: `Message too large: at most ${MAX_MESSAGE_BYTES} bytes.` })
     let data: unknown

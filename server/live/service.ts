@@ -6,6 +6,7 @@ import type { ServerMessage } from '#shared/live/protocol'
 import type { Database } from '../database/connection'
 import { verifyPasswordOutsideNitro } from '../database/password-hash'
 import { startBroker, type RunningBroker } from './broker'
+import type { LiveSession } from '../utils/live-auth'
 import type { PanelConnection } from './connection'
 import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
@@ -51,6 +52,8 @@ export class LiveService {
   private ready: Promise<void>
   private panels = new Set<PanelConnection>()
   private sessionVersions = new Map<number, number>()
+  // Sessions signed out while this process ran (a few a day; a restart forgets them, the database does not).
+  private endedSessions = new Set<string>()
 
   constructor(private readonly db: Database, private readonly settings: LiveSettings) {
     this.journal = createJournal({ sequelize: db.sequelize, spillDir: join(settings.dataDir, 'journal-spill'), log })
@@ -69,8 +72,21 @@ export class LiveService {
     if (version > (this.sessionVersions.get(userId) ?? -1)) this.sessionVersions.set(userId, version)
   }
 
-  sessionCurrent(userId: number, version: number): boolean {
-    return (this.sessionVersions.get(userId) ?? version) === version
+  /** Whether a panel's session still stands, as far as this process knows (commands also ask the database). */
+  sessionCurrent(session: LiveSession): boolean {
+    if (this.endedSessions.has(session.id)) return false
+    const known = this.sessionVersions.get(session.userId)
+    return known === undefined || known === session.version
+  }
+
+  /** One session was signed out: its panels close at once. */
+  endOneSession(sessionId: string): void {
+    this.endedSessions.add(sessionId)
+    for (const panel of [...this.panels]) {
+      if (panel.session.id !== sessionId) continue
+      this.panels.delete(panel)
+      panel.end()
+    }
   }
 
   /**
@@ -80,7 +96,7 @@ export class LiveService {
   endSessionsOf(userId: number, version: number, { releaseAreas }: { releaseAreas: boolean }): void {
     this.noteSessionVersion(userId, version)
     for (const panel of [...this.panels]) {
-      if (panel.user.id !== userId || panel.sessionVersion === version) continue
+      if (panel.user.id !== userId || panel.session.version === version) continue
       this.panels.delete(panel)
       panel.end()
     }

@@ -7,13 +7,12 @@ const connections = new WeakMap<Peer, Promise<PanelConnection | null>>()
 const DATABASE_AWAY = 'the database is not reachable just now; try again in a moment'
 
 async function openConnection(peer: Peer): Promise<PanelConnection | null> {
-  const session = await requireUserSession(peer as never)
-  const sessionVersion = session.secure?.sessionVersion
-  const user = await loadLiveUser(session.user.id, sessionVersion)
-  if (!user) { peer.close(4001, 'session ended'); return null }
+  const session = liveSessionOf(await requireUserSession(peer as never))
+  const user = session && await loadLiveUser(session)
+  if (!session || !user) { peer.close(4001, 'session ended'); return null }
   const live = useLive()
   await live.whenReady()
-  const connection = new PanelConnection(peer, user, sessionVersion!, live, () => loadLiveUser(user.id, sessionVersion))
+  const connection = new PanelConnection(peer, user, session, live, () => loadLiveUser(session))
   live.addPanel(connection)
   connection.send({ type: 'welcome', user })
   return connection
@@ -24,10 +23,11 @@ async function openConnection(peer: Peer): Promise<PanelConnection | null> {
 export default defineWebSocketHandler({
   async upgrade(request) {
     if (!originAllowed(request.headers)) throw new Response('Forbidden: foreign origin', { status: 403 })
-    const session = await getUserSession(request as never).catch(() => null)
-    if (!session?.user) throw new Response('Unauthorized: sign in first', { status: 401 })
+    const sealed = await getUserSession(request as never).catch(() => null)
+    const session = sealed && liveSessionOf(sealed)
+    if (!session) throw new Response('Unauthorized: sign in first', { status: 401 })
     // crossws refuses the upgrade only for a thrown Response: any other error would leave the client hanging.
-    const user = await loadLiveUser(session.user.id, session.secure?.sessionVersion).catch((error: Error) => {
+    const user = await loadLiveUser(session).catch((error: Error) => {
       console.error(`[blockbell] live handshake: ${error.message}`)
       throw new Response(`Service Unavailable: ${DATABASE_AWAY}`, { status: 503 })
     })

@@ -1,12 +1,22 @@
+import type { UserSession } from '#auth-utils'
 import type { LiveUser } from '#shared/live/protocol'
 
-/**
- * The user behind a session, as the live side needs them; null when the account is missing, disabled, or
- * its session version has moved on since the session was sealed.
- */
-export async function loadLiveUser(id: number, sessionVersion: number | undefined): Promise<LiveUser | null> {
-  const row = await useDatabase().models.User.findByPk(id)
-  if (!sessionMatches({ secure: sessionVersion === undefined ? undefined : { sessionVersion } }, row)) return null
+/** The session facts a panel's WebSocket keeps. */
+export interface LiveSession { id: string, userId: number, version: number | undefined }
+
+export function liveSessionOf(session: UserSession): LiveSession | null {
+  if (!session.user || !session.id) return null
+  return { id: session.id, userId: session.user.id, version: session.secure?.sessionVersion }
+}
+
+/** The user behind a session, as the live side needs them; null when the session no longer stands. */
+export async function loadLiveUser(session: LiveSession): Promise<LiveUser | null> {
+  const { row, current } = await checkSession({
+    id: session.id,
+    user: { id: session.userId } as UserSession['user'],
+    secure: session.version === undefined ? undefined : { sessionVersion: session.version },
+  })
+  if (!row || !current) return null
   runningLive()?.noteSessionVersion(row.id, row.sessionVersion)
   return { id: row.id, name: row.name, role: row.role }
 }

@@ -1,6 +1,6 @@
 import type { H3Event } from 'h3'
 import type { User as SessionUser } from '#auth-utils'
-import type { SignInBody } from '#shared/schemas/account'
+import type { SignInBody, SignOutBody } from '#shared/schemas/account'
 
 let dummyHash: Promise<string> | undefined
 
@@ -27,11 +27,14 @@ export async function signIn(event: H3Event, { email, password }: SignInBody): P
 }
 
 /**
- * Signs out. The account's session version is raised, so this ends its sessions on every device, not
- * only this cookie (one version per account is all the server keeps).
+ * Signs out this session, or with `everywhere` every session of the account (the session version is
+ * raised: other tablets and browsers are signed out at their next request, their panels at once).
  */
-export async function signOut(event: H3Event): Promise<void> {
+export async function signOut(event: H3Event, { everywhere }: SignOutBody): Promise<void> {
   const session = await getUserSession(event)
-  if (session.user) await bumpSessionVersion(session.user.id)
+  if (session.user) {
+    if (everywhere) await bumpSessionVersion(session.user.id)
+    else if (session.id) await endOneSession(session.id, session.user.id)
+  }
   await endSession(event)
 }

@@ -1,6 +1,6 @@
 import * as initial from './0001-initial'
 import * as devicesAndEventKeys from './0002-devices-and-event-keys'
-import * as sessionVersion from './0003-session-version'
+import * as endingSessions from './0003-ending-sessions'
 
 /**
  * Every migration, in order. Listed by hand (not globbed) so the same list works under tsx and inside the
@@ -9,5 +9,5 @@ import * as sessionVersion from './0003-session-version'
 export const migrations = [
   { name: '0001-initial', ...initial },
   { name: '0002-devices-and-event-keys', ...devicesAndEventKeys },
-  { name: '0003-session-version', ...sessionVersion },
+  { name: '0003-ending-sessions', ...endingSessions },
 ]
