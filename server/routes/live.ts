@@ -42,7 +42,11 @@ export default defineWebSocketHandler({
   },
   async message(peer, message) {
     const connection = await connections.get(peer)
-    await connection?.receive(message.text())
+    if (!connection) return
+    await connection.receive(message.text()).catch((error: Error) => {
+      console.error(`[blockbell] live message failed: ${error.message}`)
+      connection.send({ type: 'error', message: 'The server could not handle that message; nothing was changed.' })
+    })
   },
   async close(peer) {
     const connection = await connections.get(peer)
