@@ -11,7 +11,7 @@ import type { PanelConnection } from './connection'
 import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
 import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } from './payloads'
-import { INPUT_FILTERS, parseInputTopic } from './topics'
+import { INPUT_FILTERS, parseInputTopic } from '#shared/live/topics'
 import { LayoutRuntime } from './runtime'
 import { restoreLayoutState } from './restore'
 
