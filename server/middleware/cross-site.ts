@@ -25,11 +25,11 @@ function hasBody(event: H3Event): boolean {
 export default defineEventHandler((event) => {
   if (SAFE_METHODS.has(event.method)) return
   if (!sameSite(event)) {
-    throw createError({ statusCode: 403, message: 'Refused: this request came from another site. Use Blockbell from its own address.' })
+    throw createError({ statusCode: 403, statusMessage: 'Forbidden', message: 'Refused: this request came from another site. Use Blockbell from its own address.' })
   }
   if (!event.path.startsWith('/api/')) return
   const type = getRequestHeader(event, 'content-type')
   const json = type !== undefined && /^application\/(?:[\w.+-]+\+)?json\s*(?:;|$)/i.test(type)
   if (json || (type === undefined && !hasBody(event))) return
-  throw createError({ statusCode: 415, message: 'The request body must be JSON: send it with Content-Type: application/json.' })
+  throw createError({ statusCode: 415, statusMessage: 'Unsupported Media Type', message: 'The request body must be JSON: send it with Content-Type: application/json.' })
 })

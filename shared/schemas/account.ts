@@ -24,7 +24,7 @@ export const SignInBody = z.object({
 export type SignInBody = z.infer<typeof SignInBody>
 
 export const SignOutBody = z.object({
-  everywhere: z.boolean({ error: 'everywhere is true or false' }).optional(),
+  everywhere: z.boolean({ error: 'Give true or false' }).optional(),
 })
 export type SignOutBody = z.infer<typeof SignOutBody>
 
