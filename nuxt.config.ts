@@ -11,7 +11,7 @@ export default defineNuxtConfig({
   dir: { app: 'app' },
   devtools: { enabled: false },
   telemetry: false,
-  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', 'nuxt-security'],
+  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint', 'nuxt-security'],
   css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
   app: {
     head: {
@@ -68,4 +68,6 @@ export default defineNuxtConfig({
     removeLoggers: false,
   },
   typescript: { strict: true },
+  // Lint and format in one: @nuxt/eslint's stylistic rules (no Prettier).
+  eslint: { config: { stylistic: { quotes: 'single', semi: false, commaDangle: 'always-multiline', braceStyle: '1tbs' } } },
 })

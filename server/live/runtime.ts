@@ -50,7 +50,6 @@ export class LayoutRuntime {
   private dropouts: Record<string, number> = {}
   private feed: FeedEntry[] = []
   private session: LiveSession | null
-  readonly counters = { rejectedInputs: 0, refusedCommands: 0, events: 0 }
 
   constructor(private readonly deps: RuntimeDeps) {
     this.slug = deps.slug
@@ -94,7 +93,6 @@ export class LayoutRuntime {
   }
 
   rejectInput(where: string, reason: string): void {
-    this.counters.rejectedInputs++
     this.deps.journal.append({ layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null, at: this.now(), type: 'input-rejected', subject: where.slice(0, 64), payload: { reason }, userId: null })
   }
 
@@ -131,10 +129,7 @@ export class LayoutRuntime {
   /** Checks and carries out one command; the reason is shown to the operator when refused. */
   command(user: LiveUser, command: LiveCommand): CommandOutcome {
     const reason = this.unknownItem(command) ?? this.notAllowed(user, command) ?? this.staleRevision(command)
-    if (reason) {
-      this.counters.refusedCommands++
-      return { ok: false, reason }
-    }
+    if (reason) return { ok: false, reason }
     const at = this.now()
     const journal = { type: 'command', subject: 'area' in command ? command.area : null, payload: { ...command }, userId: user.id, at }
     const by = String(user.id)
@@ -226,7 +221,7 @@ export class LayoutRuntime {
   private applyCommand(event: LayoutEvent, user: LiveUser, journal: JournalFields): CommandOutcome {
     const changes = this.engine.apply(event)
     const error = changes.find(c => c.type === 'error')
-    if (error && error.type === 'error') { this.counters.refusedCommands++; return { ok: false, reason: error.message } }
+    if (error && error.type === 'error') return { ok: false, reason: error.message }
     this.publishAndEmit(changes, journal, user)
     return { ok: true }
   }
@@ -272,7 +267,6 @@ export class LayoutRuntime {
 
   /** Sends one numbered delta to the layout's panels and journals the input and each engine change. */
   private emit(changes: LiveChange[], journal?: JournalFields, engineChanges: Change[] = []): void {
-    this.counters.events++
     this.queueDelta(changes)
     if (!journal) return
     const base = { layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null }
