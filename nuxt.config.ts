@@ -6,13 +6,8 @@ import { SCRYPT_OPTIONS } from './server/database/scrypt-options'
 const nuxtErrorHandler = fileURLToPath(new URL('./node_modules/@nuxt/nitro-server/dist/runtime/handlers/error.mjs', import.meta.url))
 
 export default defineNuxtConfig({
-  compatibilityDate: '2025-07-15',
-  srcDir: '.',
-  dir: { app: 'app' },
-  devtools: { enabled: false },
-  telemetry: false,
   modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint', 'nuxt-security'],
-  css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
+  devtools: { enabled: false },
   app: {
     head: {
       title: 'Blockbell',
@@ -23,14 +18,22 @@ export default defineNuxtConfig({
       ],
     },
   },
+  css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
   runtimeConfig: {
     session: { name: 'blockbell-session', maxAge: 60 * 60 * 12 },
   },
-  auth: { hash: { scrypt: SCRYPT_OPTIONS } },
+  dir: { app: 'app' },
+  srcDir: '.',
+  compatibilityDate: '2025-07-15',
   nitro: {
     experimental: { websocket: true },
     errorHandler: ['~/server/error-handler', nuxtErrorHandler],
   },
+  typescript: { strict: true },
+  telemetry: false,
+  auth: { hash: { scrypt: SCRYPT_OPTIONS } },
+  // Lint and format in one: @nuxt/eslint's stylistic rules (no Prettier).
+  eslint: { config: { stylistic: { quotes: 'single', semi: false, commaDangle: 'always-multiline', braceStyle: '1tbs' } } },
   // Security headers (nuxt-security). The CSP admits only this server's scripts and Nuxt's own inline
   // scripts (each page carries a fresh nonce). Plain http stays usable on a layout room's network: no
   // upgrade-insecure-requests and no HSTS here (a reverse proxy serving https may add HSTS itself).
@@ -38,19 +41,19 @@ export default defineNuxtConfig({
     nonce: true,
     headers: {
       contentSecurityPolicy: {
-        'default-src': ["'self'"],
-        'script-src': ["'self'", "'strict-dynamic'", "'nonce-{{nonce}}'"],
-        'script-src-attr': ["'none'"],
+        'default-src': ['\'self\''],
+        'script-src': ['\'self\'', '\'strict-dynamic\'', '\'nonce-{{nonce}}\''],
+        'script-src-attr': ['\'none\''],
         // Vue renders style="…" attributes (diagram positions) on the server.
-        'style-src': ["'self'", "'unsafe-inline'"],
-        'img-src': ["'self'", 'data:'],
-        'font-src': ["'self'"],
+        'style-src': ['\'self\'', '\'unsafe-inline\''],
+        'img-src': ['\'self\'', 'data:'],
+        'font-src': ['\'self\''],
         // The panels' WebSocket /live (ws: and wss: for browsers where 'self' does not cover them).
-        'connect-src': ["'self'", 'ws:', 'wss:'],
-        'object-src': ["'none'"],
-        'base-uri': ["'none'"],
-        'form-action': ["'self'"],
-        'frame-ancestors': ["'none'"],
+        'connect-src': ['\'self\'', 'ws:', 'wss:'],
+        'object-src': ['\'none\''],
+        'base-uri': ['\'none\''],
+        'form-action': ['\'self\''],
+        'frame-ancestors': ['\'none\''],
         'upgrade-insecure-requests': false,
       },
       xFrameOptions: 'DENY',
@@ -67,7 +70,4 @@ export default defineNuxtConfig({
     // Browser tests read the console: keep console calls in the client build.
     removeLoggers: false,
   },
-  typescript: { strict: true },
-  // Lint and format in one: @nuxt/eslint's stylistic rules (no Prettier).
-  eslint: { config: { stylistic: { quotes: 'single', semi: false, commaDangle: 'always-multiline', braceStyle: '1tbs' } } },
 })

@@ -49,10 +49,15 @@ describe('answers while PostgreSQL is down', () => {
   it('a new WebSocket handshake is refused with 503 instead of hanging', async () => {
     const status = await new Promise<number>((resolve) => {
       const socket = new WebSocket(server.url.replace(/^http/, 'ws') + '/live', { headers: { cookie: signaller.cookieHeader, origin: server.url } })
-      const timer = setTimeout(() => { socket.terminate(); resolve(-1) }, 10_000)
-      socket.on('unexpected-response', (_req, res) => { clearTimeout(timer); resolve(res.statusCode ?? 0); socket.terminate() })
-      socket.on('open', () => { clearTimeout(timer); resolve(101); socket.close() })
-      socket.on('error', () => { clearTimeout(timer); resolve(0) })
+      const finish = (status: number) => {
+        clearTimeout(timer)
+        resolve(status)
+        socket.terminate()
+      }
+      const timer = setTimeout(() => finish(-1), 10_000)
+      socket.on('unexpected-response', (_req, res) => finish(res.statusCode ?? 0))
+      socket.on('open', () => finish(101))
+      socket.on('error', () => finish(0))
     })
     expect(status).toBe(503)
   })

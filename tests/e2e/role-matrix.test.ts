@@ -96,7 +96,7 @@ describe('role matrix', () => {
     const admin = await signedIn('admin')
     const foreign = await admin.request('POST', '/api/devices', {}, { origin: 'http://attacker.fernhollow.example' })
     expect(foreign.status).toBe(403)
-    const own = await admin.request('POST', '/api/devices', {}, { origin: BASE_URL, 'sec-fetch-site': 'same-origin' })
+    const own = await admin.request('POST', '/api/devices', {}, { 'origin': BASE_URL, 'sec-fetch-site': 'same-origin' })
     expect(own.status).toBe(400)
     const fetchSiteOnly = await admin.request('POST', '/api/devices', {}, { 'sec-fetch-site': 'same-origin' })
     expect(fetchSiteOnly.status).toBe(400)

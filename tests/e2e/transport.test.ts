@@ -43,7 +43,7 @@ describe('the session cookie on plain http and behind an https proxy', () => {
   })
 
   it('behind a trusted proxy that says https, the cookie is Secure', async () => {
-    const reply = await signIn({ from: '127.0.0.3', headers: { host: 'clubroom-laptop.fernhollow.example', 'x-forwarded-proto': 'https' } })
+    const reply = await signIn({ from: '127.0.0.3', headers: { 'host': 'clubroom-laptop.fernhollow.example', 'x-forwarded-proto': 'https' } })
     expect(reply.status).toBe(200)
     expect(sessionCookie(reply)).toMatch(/;\s*Secure/i)
   })
