@@ -1,14 +1,13 @@
 // Blockbell application configuration. Root-level layout: pages/, components/, stores/ at the top.
+import { fileURLToPath } from 'node:url'
 import { SCRYPT_OPTIONS } from './server/database/scrypt-options'
 
+// Nuxt installs its own error handler only when none is set: list ours first, then Nuxt's.
+const nuxtErrorHandler = fileURLToPath(new URL('./node_modules/@nuxt/nitro-server/dist/runtime/handlers/error.mjs', import.meta.url))
+
 export default defineNuxtConfig({
-  compatibilityDate: '2025-07-15',
-  srcDir: '.',
-  dir: { app: 'app' },
+  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint', 'nuxt-security'],
   devtools: { enabled: false },
-  telemetry: false,
-  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint'],
-  css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
   app: {
     head: {
       title: 'Blockbell',
@@ -19,12 +18,56 @@ export default defineNuxtConfig({
       ],
     },
   },
+  css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
   runtimeConfig: {
     session: { name: 'blockbell-session', maxAge: 60 * 60 * 12 },
   },
-  auth: { hash: { scrypt: SCRYPT_OPTIONS } },
-  nitro: { experimental: { websocket: true } },
+  dir: { app: 'app' },
+  srcDir: '.',
+  compatibilityDate: '2025-07-15',
+  nitro: {
+    experimental: { websocket: true },
+    errorHandler: ['~/server/error-handler', nuxtErrorHandler],
+  },
   typescript: { strict: true },
+  telemetry: false,
+  auth: { hash: { scrypt: SCRYPT_OPTIONS } },
   // Lint and format in one: @nuxt/eslint's stylistic rules (no Prettier).
   eslint: { config: { stylistic: { quotes: 'single', semi: false, commaDangle: 'always-multiline', braceStyle: '1tbs' } } },
+  // Security headers (nuxt-security). The CSP admits only this server's scripts and Nuxt's own inline
+  // scripts (each page carries a fresh nonce). Plain http stays usable on a layout room's network: no
+  // upgrade-insecure-requests and no HSTS here (a reverse proxy serving https may add HSTS itself).
+  security: {
+    nonce: true,
+    headers: {
+      contentSecurityPolicy: {
+        'default-src': ['\'self\''],
+        'script-src': ['\'self\'', '\'strict-dynamic\'', '\'nonce-{{nonce}}\''],
+        'script-src-attr': ['\'none\''],
+        // Vue renders style="…" attributes (diagram positions) on the server.
+        'style-src': ['\'self\'', '\'unsafe-inline\''],
+        'img-src': ['\'self\'', 'data:'],
+        'font-src': ['\'self\''],
+        // The panels' WebSocket /live (ws: and wss: for browsers where 'self' does not cover them).
+        'connect-src': ['\'self\'', 'ws:', 'wss:'],
+        'object-src': ['\'none\''],
+        'base-uri': ['\'none\''],
+        'form-action': ['\'self\''],
+        'frame-ancestors': ['\'none\''],
+        'upgrade-insecure-requests': false,
+      },
+      xFrameOptions: 'DENY',
+      xContentTypeOptions: 'nosniff',
+      referrerPolicy: 'no-referrer',
+      strictTransportSecurity: false,
+    },
+    // Blockbell throttles sign-ins itself; a global request limit would cut off busy panels.
+    rateLimiter: false,
+    // Request bodies are validated with zod and output is escaped by Vue; this filter refuses ordinary text.
+    xssValidator: false,
+    // No cross-origin API: no CORS headers at all.
+    corsHandler: false,
+    // Browser tests read the console: keep console calls in the client build.
+    removeLoggers: false,
+  },
 })

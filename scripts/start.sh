@@ -54,7 +54,8 @@ log "Building the app (nuxt build)..."
 ./node_modules/.bin/nuxt build > "$DATA_DIR/build.log" 2>&1 || { tail -30 "$DATA_DIR/build.log"; die "nuxt build failed (full log: .data/build.log)"; }
 
 # Demo mode: the embedded broker also lets anonymous MQTT clients in (tools such as mosquitto_pub).
-BLOCKBELL_DEMO=1 MQTT_PORT="$MQTT_PORT" HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' &
+# HOST=0.0.0.0 serves the tablets on the local network too (README: plain http and https on a LAN).
+BLOCKBELL_DEMO=1 MQTT_PORT="$MQTT_PORT" HOST="${HOST:-127.0.0.1}" PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' &
 SERVER_PID=$!
 wait_for_http "http://127.0.0.1:$WEB_PORT/api/health" 60 || die "The server did not answer on port $WEB_PORT"
 

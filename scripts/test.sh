@@ -43,6 +43,8 @@ export NUXT_SESSION_PASSWORD=$(random_secret)
 export BLOCKBELL_TEST_URL="http://127.0.0.1:$WEB_PORT"
 export BLOCKBELL_TEST_DATA="$RUN_DIR"
 export BLOCKBELL_TEST_MQTT_URL="mqtt://127.0.0.1:$MQTT_TEST_PORT"
+# The e2e server believes X-Forwarded-* only from 127.0.0.3 (a stand-in reverse proxy; tests/e2e/transport.test.ts).
+export BLOCKBELL_TRUSTED_PROXIES=127.0.0.3
 
 if [ "${BLOCKBELL_TEST_SKIP_BUILD:-0}" = 1 ] && [ -f .output/server/index.mjs ]; then
   log "Using the existing build in .output (BLOCKBELL_TEST_SKIP_BUILD=1)"

@@ -11,6 +11,7 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   declare role: Role
   declare passwordHash: string
   declare disabledAt: CreationOptional<Date | null>
+  declare sessionVersion: CreationOptional<number>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 }
@@ -67,6 +68,12 @@ export class Device extends Model<InferAttributes<Device>, InferCreationAttribut
   declare createdAt: CreationOptional<Date>
 }
 
+export class EndedSession extends Model<InferAttributes<EndedSession>, InferCreationAttributes<EndedSession>> {
+  declare id: string
+  declare userId: ForeignKey<User['id']>
+  declare endedAt: CreationOptional<Date>
+}
+
 export interface Models {
   User: typeof User
   Layout: typeof Layout
@@ -74,6 +81,7 @@ export interface Models {
   OperatingSession: typeof OperatingSession
   JournalEvent: typeof JournalEvent
   Device: typeof Device
+  EndedSession: typeof EndedSession
 }
 
 const timestamps = { underscored: true, timestamps: true } as const
@@ -87,6 +95,7 @@ export function defineModels(sequelize: Sequelize): Models {
     role: { type: DataTypes.STRING(16), allowNull: false },
     passwordHash: { type: DataTypes.STRING(255), allowNull: false },
     disabledAt: { type: DataTypes.DATE, allowNull: true },
+    sessionVersion: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
     createdAt: DataTypes.DATE,
     updatedAt: DataTypes.DATE,
   }, { sequelize, tableName: 'users', ...timestamps })
@@ -135,6 +144,11 @@ export function defineModels(sequelize: Sequelize): Models {
     createdAt: DataTypes.DATE,
   }, { sequelize, tableName: 'devices', underscored: true, timestamps: true, updatedAt: false })
 
+  EndedSession.init({
+    id: { type: DataTypes.STRING(64), primaryKey: true },
+    endedAt: { type: DataTypes.DATE, allowNull: false, defaultValue: DataTypes.NOW },
+  }, { sequelize, tableName: 'ended_sessions', underscored: true, timestamps: false })
+
   Layout.hasMany(LayoutVersion, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(Layout, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(User, { foreignKey: 'createdBy', as: 'author' })
@@ -144,6 +158,7 @@ export function defineModels(sequelize: Sequelize): Models {
   JournalEvent.belongsTo(OperatingSession, { foreignKey: 'sessionId' })
   JournalEvent.belongsTo(User, { foreignKey: 'userId' })
   Device.belongsTo(Layout, { foreignKey: 'layoutId' })
+  EndedSession.belongsTo(User, { foreignKey: 'userId' })
 
-  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device }
+  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device, EndedSession }
 }

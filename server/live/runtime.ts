@@ -204,6 +204,15 @@ export class LayoutRuntime {
     this.emit([...changes, { type: 'feed', entry: this.pushFeed({ at: this.now(), tone: 'warn', text }) }], { type: 'hand-over-lapsed', subject: area, payload: { from: offer.from.id, to: offer.to.id }, userId: null, at: this.now() })
   }
 
+  /** Releases every area an account holds (its access was withdrawn); journaled without a user. */
+  releaseAreasOf(userId: number): void {
+    for (const [area, holder] of Object.entries(this.areas)) {
+      if (holder?.id !== userId) continue
+      const journal = { type: 'command', subject: area, payload: { action: 'release-area', area, reason: 'access withdrawn' }, userId: null, at: this.now() }
+      this.setHolder(area, null, `${this.names.area(area)} released: ${holder.name} no longer has access`, journal)
+    }
+  }
+
   operators(): LiveUser[] {
     return [...this.connections.values()].map(c => c.user).sort((a, b) => a.name.localeCompare(b.name))
   }

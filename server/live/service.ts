@@ -6,6 +6,8 @@ import { HEARTBEAT_MS, type ServerMessage } from '#shared/live/protocol'
 import type { Database } from '../database/connection'
 import { hashPasswordOutsideNitro, verifyPasswordOutsideNitro } from '../database/password-hash'
 import { startBroker, type RunningBroker } from './broker'
+import type { LiveSession } from '../utils/live-auth'
+import type { PanelConnection } from './connection'
 import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
 import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } from './payloads'
@@ -64,6 +66,10 @@ export class LiveService {
   private journal: Journal
   private ready: Promise<void>
   private heartbeat: ReturnType<typeof setInterval>
+  private panels = new Set<PanelConnection>()
+  private sessionVersions = new Map<number, number>()
+  // Sessions signed out while this process ran (a few a day; a restart forgets them, the database does not).
+  private endedSessions = new Set<string>()
 
   constructor(private readonly db: Database, private readonly settings: LiveSettings) {
     this.journal = createJournal({ sequelize: db.sequelize, spillDir: join(settings.dataDir, 'journal-spill'), log })
@@ -76,6 +82,45 @@ export class LiveService {
   whenReady(): Promise<void> { return this.ready }
 
   runtime(slug: string): LayoutRuntime | undefined { return this.runtimes.get(slug) }
+
+  addPanel(panel: PanelConnection): void { this.panels.add(panel) }
+  removePanel(panel: PanelConnection): void { this.panels.delete(panel) }
+
+  /** Records an account's session version as read from the database (only ever moves forward). */
+  noteSessionVersion(userId: number, version: number): void {
+    if (version > (this.sessionVersions.get(userId) ?? -1)) this.sessionVersions.set(userId, version)
+  }
+
+  /** Whether a panel's session still stands, as far as this process knows (commands also ask the database). */
+  sessionCurrent(session: LiveSession): boolean {
+    if (this.endedSessions.has(session.id)) return false
+    const known = this.sessionVersions.get(session.userId)
+    return known === undefined || known === session.version
+  }
+
+  /** One session was signed out: its panels close at once. */
+  endOneSession(sessionId: string): void {
+    this.endedSessions.add(sessionId)
+    for (const panel of [...this.panels]) {
+      if (panel.session.id !== sessionId) continue
+      this.panels.delete(panel)
+      panel.end()
+    }
+  }
+
+  /**
+   * An account's sessions have ended (its session version is now `version`): its panels are closed at
+   * once and, for a disabled account, the areas it held are released on every layout.
+   */
+  endSessionsOf(userId: number, version: number, { releaseAreas }: { releaseAreas: boolean }): void {
+    this.noteSessionVersion(userId, version)
+    for (const panel of [...this.panels]) {
+      if (panel.user.id !== userId || panel.session.version === version) continue
+      this.panels.delete(panel)
+      panel.end()
+    }
+    if (releaseAreas) for (const runtime of this.runtimes.values()) runtime.releaseAreasOf(userId)
+  }
 
   private async start(): Promise<void> {
     // Entries a previous run left in the spill file go in first, so the restored state includes them.

@@ -8,6 +8,11 @@ export function useLive(): LiveService {
   return service
 }
 
+/** The live service when this process runs one (never starts it). */
+export function runningLive(): LiveService | undefined {
+  return service
+}
+
 export async function closeLive(): Promise<void> {
   const running = service
   service = undefined

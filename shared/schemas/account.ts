@@ -23,6 +23,11 @@ export const SignInBody = z.object({
 })
 export type SignInBody = z.infer<typeof SignInBody>
 
+export const SignOutBody = z.object({
+  everywhere: z.boolean({ error: 'Give true or false' }).optional(),
+})
+export type SignOutBody = z.infer<typeof SignOutBody>
+
 export const ChangePasswordBody = z.object({
   currentPassword: z.string({ error: 'Enter your current password' }).min(1, 'Enter your current password').max(200, 'A password has at most 200 characters'),
   newPassword: passwordField,

@@ -61,6 +61,52 @@ describe('role matrix', () => {
     expect(reply.status, JSON.stringify(reply.body)).toBe(status)
   })
 
+  // Cross-site request forgery: a page on another site (another port, a sibling host) posts a form with the
+  // victim's valid cookie. Every state-changing route, plus nuxt-auth-utils' own DELETE /api/_auth/session,
+  // must refuse it before it does anything (OWASP ASVS 5.0 V3.5).
+  const STATE_CHANGING = [
+    ...ROUTES.filter(r => r.method !== 'GET').map(r => ({ method: r.method, path: r.path, body: r.body })),
+    { method: 'DELETE', path: '/api/_auth/session', body: undefined },
+  ]
+  const FOREIGN = [
+    { origin: 'http://127.0.0.1:1', site: 'same-site', what: 'another port' },
+    { origin: 'http://attacker.fernhollow.example', site: 'cross-site', what: 'another site' },
+    { origin: 'null', site: 'cross-site', what: 'a sandboxed frame' },
+  ]
+
+  it.each(STATE_CHANGING.flatMap(route => FOREIGN.map(foreign => ({ ...route, ...foreign }))))(
+    'refuses a form $method $path from $what with a valid cookie', async ({ method, path, origin, site }) => {
+      const admin = await signedIn('admin')
+      const reply = await admin.request(method, path, 'name=Mallory&role=admin&everywhere=true', {
+        'content-type': 'application/x-www-form-urlencoded', origin, 'sec-fetch-site': site,
+      })
+      expect(reply.status, JSON.stringify(reply.body)).toBe(403)
+      expect(reply.body.message).toMatch(/came from another site/)
+      // Nothing happened: the cookie still works.
+      expect((await admin.get('/api/auth/me')).status).toBe(200)
+    })
+
+  it.each(STATE_CHANGING.filter(r => r.body !== undefined || r.method === 'POST'))(
+    'refuses a form body on $method $path even from this site (415, JSON only)', async ({ method, path }) => {
+      const admin = await signedIn('admin')
+      for (const type of ['application/x-www-form-urlencoded', 'multipart/form-data; boundary=x', 'text/plain']) {
+        const reply = await admin.request(method, path, 'everywhere=true', { 'content-type': type, 'sec-fetch-site': 'same-origin' })
+        expect(reply.status, `${type}: ${JSON.stringify(reply.body)}`).toBe(415)
+        expect(reply.body.message).toBe('The request body must be JSON: send it with Content-Type: application/json.')
+      }
+      expect((await admin.get('/api/auth/me')).status).toBe(200)
+    })
+
+  it('refuses JSON from a foreign Origin too, and takes it from this site (as the browser sends it)', async () => {
+    const admin = await signedIn('admin')
+    const foreign = await admin.request('POST', '/api/devices', {}, { origin: 'http://attacker.fernhollow.example' })
+    expect(foreign.status).toBe(403)
+    const own = await admin.request('POST', '/api/devices', {}, { 'origin': BASE_URL, 'sec-fetch-site': 'same-origin' })
+    expect(own.status).toBe(400)
+    const fetchSiteOnly = await admin.request('POST', '/api/devices', {}, { 'sec-fetch-site': 'same-origin' })
+    expect(fetchSiteOnly.status).toBe(400)
+  })
+
   it('sign-out ends the session of every role', async () => {
     for (const role of ['viewer', 'signaller', 'admin'] as const) {
       const client = await signedIn(role)

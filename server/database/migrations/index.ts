@@ -1,5 +1,6 @@
 import * as initial from './0001-initial'
 import * as devicesAndEventKeys from './0002-devices-and-event-keys'
+import * as endingSessions from './0003-ending-sessions'
 import * as trackCleaning from './0010-track-cleaning'
 
 /**
@@ -9,5 +10,6 @@ import * as trackCleaning from './0010-track-cleaning'
 export const migrations = [
   { name: '0001-initial', ...initial },
   { name: '0002-devices-and-event-keys', ...devicesAndEventKeys },
+  { name: '0003-ending-sessions', ...endingSessions },
   { name: '0010-track-cleaning', ...trackCleaning },
 ]
