@@ -21,6 +21,8 @@ export class Layout extends Model<InferAttributes<Layout>, InferCreationAttribut
   declare name: string
   declare definition: unknown
   declare version: CreationOptional<number>
+  declare latestVersion: CreationOptional<number>
+  declare archivedAt: CreationOptional<Date | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 }
@@ -30,6 +32,8 @@ export class LayoutVersion extends Model<InferAttributes<LayoutVersion>, InferCr
   declare layoutId: ForeignKey<Layout['id']>
   declare version: number
   declare definition: unknown
+  declare summary: CreationOptional<object>
+  declare valid: CreationOptional<boolean>
   declare createdBy: ForeignKey<User['id']> | null
   declare createdAt: CreationOptional<Date>
 }
@@ -67,6 +71,13 @@ export class Device extends Model<InferAttributes<Device>, InferCreationAttribut
   declare createdAt: CreationOptional<Date>
 }
 
+export class LayoutWiring extends Model<InferAttributes<LayoutWiring>, InferCreationAttributes<LayoutWiring>> {
+  declare layoutId: number
+  declare kind: 'detector' | 'signal' | 'turnout'
+  declare itemId: string
+  declare deviceId: number
+}
+
 export interface Models {
   User: typeof User
   Layout: typeof Layout
@@ -74,6 +85,7 @@ export interface Models {
   OperatingSession: typeof OperatingSession
   JournalEvent: typeof JournalEvent
   Device: typeof Device
+  LayoutWiring: typeof LayoutWiring
 }
 
 const timestamps = { underscored: true, timestamps: true } as const
@@ -97,6 +109,8 @@ export function defineModels(sequelize: Sequelize): Models {
     name: { type: DataTypes.STRING(120), allowNull: false },
     definition: { type: DataTypes.JSONB, allowNull: false },
     version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+    latestVersion: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+    archivedAt: { type: DataTypes.DATE, allowNull: true },
     createdAt: DataTypes.DATE,
     updatedAt: DataTypes.DATE,
   }, { sequelize, tableName: 'layouts', ...timestamps })
@@ -105,6 +119,8 @@ export function defineModels(sequelize: Sequelize): Models {
     id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
     version: { type: DataTypes.INTEGER, allowNull: false },
     definition: { type: DataTypes.JSONB, allowNull: false },
+    summary: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
+    valid: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
     createdAt: DataTypes.DATE,
   }, { sequelize, tableName: 'layout_versions', underscored: true, timestamps: true, updatedAt: false })
 
@@ -135,6 +151,13 @@ export function defineModels(sequelize: Sequelize): Models {
     createdAt: DataTypes.DATE,
   }, { sequelize, tableName: 'devices', underscored: true, timestamps: true, updatedAt: false })
 
+  LayoutWiring.init({
+    layoutId: { type: DataTypes.INTEGER, allowNull: false, primaryKey: true },
+    kind: { type: DataTypes.STRING(16), allowNull: false, primaryKey: true },
+    itemId: { type: DataTypes.STRING(40), allowNull: false, primaryKey: true },
+    deviceId: { type: DataTypes.INTEGER, allowNull: false },
+  }, { sequelize, tableName: 'layout_wiring', underscored: true, timestamps: false })
+
   Layout.hasMany(LayoutVersion, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(Layout, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(User, { foreignKey: 'createdBy', as: 'author' })
@@ -145,5 +168,5 @@ export function defineModels(sequelize: Sequelize): Models {
   JournalEvent.belongsTo(User, { foreignKey: 'userId' })
   Device.belongsTo(Layout, { foreignKey: 'layoutId' })
 
-  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device }
+  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device, LayoutWiring }
 }

@@ -115,6 +115,11 @@ export class LayoutRuntime {
     this.emit([{ type: 'operators', operators: this.operators() }])
   }
 
+  /** Who is connected and how many times, for the runtime that replaces this one on a reload. */
+  connectedOperators(): { user: LiveUser, count: number }[] {
+    return [...this.connections.values()].map(c => ({ ...c }))
+  }
+
   operators(): LiveUser[] {
     return [...this.connections.values()].map(c => c.user).sort((a, b) => a.name.localeCompare(b.name))
   }

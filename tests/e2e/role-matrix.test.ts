@@ -25,6 +25,19 @@ const ROUTES: RouteCase[] = [
   { file: 'devices/[id].patch.ts', method: 'PATCH', path: '/api/devices/999999', body: { disabled: true }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
   { file: 'layouts/index.get.ts', method: 'GET', path: '/api/layouts', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
   { file: 'layouts/[id].get.ts', method: 'GET', path: '/api/layouts/999999', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/index.post.ts', method: 'POST', path: '/api/layouts', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'layouts/[id].put.ts', method: 'PUT', path: '/api/layouts/999999', body: { definition: {}, baseVersion: 1, draft: true }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'layouts/[id].patch.ts', method: 'PATCH', path: '/api/layouts/999999', body: { name: 'Nowhere' }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'layouts/[id].delete.ts', method: 'DELETE', path: '/api/layouts/999999', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'layouts/[id]/duplicate.post.ts', method: 'POST', path: '/api/layouts/999999/duplicate', body: { name: 'Nowhere' }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'layouts/[id]/versions/index.get.ts', method: 'GET', path: '/api/layouts/999999/versions', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/versions/[version].get.ts', method: 'GET', path: '/api/layouts/999999/versions/1', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/versions/[version]/restore.post.ts', method: 'POST', path: '/api/layouts/999999/versions/1/restore', body: { baseVersion: 1 }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'layouts/[id]/export.get.ts', method: 'GET', path: '/api/layouts/999999/export', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/import.post.ts', method: 'POST', path: '/api/layouts/import', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'layouts/[id]/wiring.get.ts', method: 'GET', path: '/api/layouts/999999/wiring', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/wiring.put.ts', method: 'PUT', path: '/api/layouts/999999/wiring', body: { kind: 'detector', item: 'D1', deviceId: null }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'layouts/[id]/wiring.csv.get.ts', method: 'GET', path: '/api/layouts/999999/wiring.csv', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
 ]
 
 function apiRouteFiles(dir: string): string[] {
