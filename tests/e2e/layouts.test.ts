@@ -1,4 +1,6 @@
-import { readFileSync } from 'node:fs'
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs'
+import { tmpdir } from 'node:os'
+import { join } from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { setup } from '@nuxt/test-utils/e2e'
 import { QueryTypes } from 'sequelize'
@@ -7,6 +9,7 @@ import { databaseSettings } from '../../server/database/config'
 import { BASE_URL, signedIn, unique, type SessionClient } from '../support/http-client'
 import { LiveClient } from '../support/live-client'
 import { lineLayout } from '../support/layout-fixtures'
+import { runFakeLayoutScript } from '../support/fake-layout-process'
 
 await setup({ host: BASE_URL })
 
@@ -15,10 +18,11 @@ const fixture = (name: string) => readFileSync(new URL(`../fixtures/layouts/${na
 let db: Database
 let admin: SessionClient
 let adminName: string
+let existing: Set<number>
 
 async function upload(client: SessionClient, body: Buffer | string, filename = 'layout.json', type = 'application/json') {
   const form = new FormData()
-  form.append('file', new Blob([body], { type }), filename)
+  form.append('file', new Blob([typeof body === 'string' ? body : new Uint8Array(body)], { type }), filename)
   const response = await fetch(`${BASE_URL}/api/layouts/import`, { method: 'POST', body: form, headers: { cookie: client.cookieHeader, accept: 'application/json' } })
   return { status: response.status, body: await response.json() as any }
 }
@@ -39,8 +43,13 @@ beforeAll(async () => {
   db = openDatabase({ ...databaseSettings(), database: process.env.BLOCKBELL_DB_NAME ?? 'blockbell_e2e' })
   admin = await signedIn('admin')
   adminName = (await admin.get('/api/auth/me')).body.user.name
+  existing = new Set((await admin.get('/api/layouts')).body.layouts.map((l: { id: number }) => l.id))
 })
-afterAll(async () => { await db.sequelize.close() })
+afterAll(async () => {
+  // the layouts made here are archived, so the Panel's list is as the other tests expect it
+  for (const l of (await admin.get('/api/layouts')).body.layouts) if (!existing.has(l.id) && !l.archived) await admin.patch(`/api/layouts/${l.id}`, { archived: true })
+  await db.sequelize.close()
+})
 
 describe('layouts: create, rename, duplicate, archive, delete', () => {
   it('creates a layout from a definition, a blank one and a copy, each with its own slug', async () => {
@@ -214,6 +223,30 @@ describe('layouts: the live side follows saves', () => {
     if (fresh.type !== 'snapshot') throw new Error('expected a snapshot')
     expect(fresh.definition.blocks[1]!.name).toBe('Hollin middle')
     expect(fresh.state.indications.S9).toBeDefined()
+    panel.socket.close()
+  })
+
+  it('the fake layout drives a layout made through the API', async () => {
+    const made = await create()
+    const viewer = await signedIn('viewer')
+    const panel = await LiveClient.open(viewer.cookieHeader)
+    await panel.subscribe(made.slug)
+    const occupied = panel.change(c => c.type === 'block' && c.block === 'B2' && c.occupied, 10_000)
+    // the fake layout runs on the layout as the server has it (its export)
+    const file = join(mkdtempSync(join(tmpdir(), 'blockbell-layout-')), `${made.slug}.json`)
+    writeFileSync(file, JSON.stringify((await admin.get(`/api/layouts/${made.id}/export`)).body))
+    const run = runFakeLayoutScript({
+      layout: file,
+      mqttUrl: process.env.BLOCKBELL_TEST_MQTT_URL ?? 'mqtt://127.0.0.1:18839', script: 'tests/fixtures/layouts/hollin-train.json', slug: made.slug,
+      username: 'fake-layout', password: process.env.BLOCKBELL_FAKE_MQTT_PASSWORD ?? 'fake-layout-demo',
+    })
+    expect(await run.exited).toBe(0)
+    await occupied
+    const snapshot = await panel.subscribe(made.slug)
+    if (snapshot.type !== 'snapshot') throw new Error('expected a snapshot')
+    expect(snapshot.state.occupied).toMatchObject({ B1: true, B2: true, B3: false })
+    // S2 protects the occupied B2
+    expect(snapshot.state.indications.S2!.aspect).toBe('danger')
     panel.socket.close()
   })
 })
