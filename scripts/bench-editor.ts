@@ -117,8 +117,7 @@ try {
   console.log(`   pointer move -> track redrawn:      p50 ${ms(percentile(dom, 50))}, p95 ${ms(percentile(dom, 95))}, max ${ms(dom.at(-1) ?? NaN)}`)
   console.log(`   pointer move -> next frame starts:  p50 ${ms(percentile(frame, 50))}, p95 ${ms(percentile(frame, 95))}, max ${ms(frame.at(-1) ?? NaN)}`)
   console.log(`   one frame at 60 Hz is ${FRAME_MS.toFixed(1)} ms: redraw p95 ${percentile(dom, 95) <= FRAME_MS ? 'within' : 'OVER'} one frame`)
-}
-finally {
+} finally {
   await browser.close()
   await server.stop()
   await pg.destroy()

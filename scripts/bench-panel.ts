@@ -242,8 +242,7 @@ let mqttUrl: string | undefined
 if (external) {
   base = external.replace(/\/$/, '')
   mqttUrl = process.env.BLOCKBELL_BENCH_MQTT_URL
-}
-else {
+} else {
   if (!existsSync('.output/server/index.mjs')) throw new Error('no build in .output: run `nuxt build` first')
   pg = await startThrowawayPostgres({ database: 'blockbell_bench_panel' })
   const db = await pg.openMigrated()
@@ -271,8 +270,7 @@ try {
   await measureJavaScript(browser, base)
   if (mqttUrl) await measureDiagram(browser, base, mqttUrl)
   else console.log('\n2. skipped: set BLOCKBELL_BENCH_MQTT_URL (and load the bench500 layout) to time the 500-block diagram on an external server')
-}
-finally {
+} finally {
   await browser.close()
   await server?.stop()
   await pg?.destroy()

@@ -55,4 +55,3 @@ export function benchLayout(): Layout {
   if (!r.ok) throw new Error(`the generated layout is not valid: ${JSON.stringify(r.errors.slice(0, 3))}`)
   return r.layout
 }
-

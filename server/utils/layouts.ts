@@ -12,8 +12,18 @@ import type { CreateLayoutBody, SaveLayoutBody, UpdateLayoutBody } from '#shared
 interface StoredDefinition { blocks?: unknown[], signals?: unknown[], turnouts?: unknown[], areas?: unknown[], scale?: { name?: string } }
 
 interface ListRow {
-  id: number, slug: string, name: string, version: number, latest_version: number, definition: StoredDefinition,
-  updated_at: Date, archived_at: Date | null, in_use: boolean, has_journal: boolean, saved_by: string | null, saved_at: Date | null,
+  id: number
+  slug: string
+  name: string
+  version: number
+  latest_version: number
+  definition: StoredDefinition
+  updated_at: Date
+  archived_at: Date | null
+  in_use: boolean
+  has_journal: boolean
+  saved_by: string | null
+  saved_at: Date | null
 }
 
 export async function listLayouts(): Promise<LayoutSummary[]> {

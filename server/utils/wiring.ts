@@ -3,11 +3,10 @@ import type { H3Event } from 'h3'
 import { validateLayout } from '#shared/signalling'
 import type { Layout } from '#shared/schemas/layout'
 import type { WiringItem } from '#shared/types/layouts'
-import { layoutPrefix } from '../live/topics'
+import { layoutTopic, relative } from '#shared/live/topics'
 
 /** Every detector, signal and turnout of a layout with its block, area, MQTT topic and assigned controller. */
 export function wiringItems(slug: string, layout: Layout, assigned: Map<string, { id: number, name: string }>): WiringItem[] {
-  const prefix = layoutPrefix(slug)
   const signalArea = new Map(layout.areas.flatMap(a => a.signals.map(s => [s, a.name] as const)))
   const turnoutArea = new Map(layout.areas.flatMap(a => a.turnouts.map(t => [t, a.name] as const)))
   // a block is in the area of the signal that protects it or the turnout in it (as the Panel draws the bands)
@@ -20,9 +19,9 @@ export function wiringItems(slug: string, layout: Layout, assigned: Map<string, 
     return { kind, id, block, area, topic, deviceId: d?.id ?? null, device: d?.name ?? null }
   }
   return [
-    ...layout.blocks.flatMap(b => b.detectors.map(d => item('detector', d, b.id, blockArea.get(b.id) ?? null, `${prefix}detector/${d}`))),
-    ...layout.signals.map(s => item('signal', s.id, s.from, signalArea.get(s.id) ?? null, `${prefix}signal/${s.id}`)),
-    ...layout.turnouts.map(t => item('turnout', t.id, t.block, turnoutArea.get(t.id) ?? null, `${prefix}turnout/${t.id}`)),
+    ...layout.blocks.flatMap(b => b.detectors.map(d => item('detector', d, b.id, blockArea.get(b.id) ?? null, layoutTopic(slug, relative.detector(d))))),
+    ...layout.signals.map(s => item('signal', s.id, s.from, signalArea.get(s.id) ?? null, layoutTopic(slug, relative.signal(s.id)))),
+    ...layout.turnouts.map(t => item('turnout', t.id, t.block, turnoutArea.get(t.id) ?? null, layoutTopic(slug, relative.turnout(t.id)))),
   ]
 }
 

@@ -139,7 +139,7 @@ export function addSignal(def: Layout, p: Point, radius: number): string | null 
  */
 export function addTurnout(def: Layout, p: Point, radius: number): string | null {
   const at = snap(p)
-  const ending = def.blocks.find(b => { const path = def.diagram.blocks[b.id]?.path; return path && samePoint(path[path.length - 1]!, at) })
+  const ending = def.blocks.find((b) => { const path = def.diagram.blocks[b.id]?.path; return path && samePoint(path[path.length - 1]!, at) })
   const block = ending?.id ?? nearestBlock(def, p, radius)
   if (!block) return null
   const onward = def.links.filter(l => l.from === block).map(l => l.to)
@@ -215,7 +215,11 @@ export function renameId(def: Layout, item: ItemRef, to: string): boolean {
   if (from === to) return true
   if (allIds(def).includes(to)) return false
   const swap = (x: string) => (x === from ? to : x)
-  const rekey = <T>(rec: Record<string, T>) => { if (from in rec) { rec[to] = rec[from]!; delete rec[from] } }
+  const rekey = <T>(rec: Record<string, T>) => {
+    if (!(from in rec)) return
+    rec[to] = rec[from]!
+    delete rec[from]
+  }
   if (item.kind === 'block') {
     def.blocks.forEach((b) => { b.id = swap(b.id) })
     def.links.forEach((l) => { l.from = swap(l.from); l.to = swap(l.to) })
@@ -224,7 +228,11 @@ export function renameId(def: Layout, item: ItemRef, to: string): boolean {
       s.protects = swap(s.protects)
       if (s.indicators && from in s.indicators) rekey(s.indicators)
     })
-    def.turnouts.forEach((t) => { t.block = swap(t.block); t.normal = swap(t.normal); t.reverse = swap(t.reverse) })
+    def.turnouts.forEach((t) => {
+      t.block = swap(t.block)
+      t.normal = swap(t.normal)
+      t.reverse = swap(t.reverse)
+    })
     rekey(def.diagram.blocks)
   } else if (item.kind === 'signal') {
     def.signals.forEach((s) => { s.id = swap(s.id) })

@@ -24,7 +24,7 @@ async function upload(client: SessionClient, body: Buffer | string, filename = '
   const form = new FormData()
   form.append('file', new Blob([typeof body === 'string' ? body : new Uint8Array(body)], { type }), filename)
   const response = await fetch(`${BASE_URL}/api/layouts/import`, { method: 'POST', body: form, headers: { cookie: client.cookieHeader, accept: 'application/json' } })
-  return { status: response.status, body: await response.json() as any }
+  return { status: response.status, body: await response.json() as { data: { issues: { path: string, message: string }[] }, id: number, slug: string } }
 }
 
 async function tableCounts() {
