@@ -7,7 +7,7 @@ export const useLayoutsStore = defineStore('layouts', () => {
   const requestFetch = useRequestFetch()
 
   async function load() {
-    layouts.value = (await requestFetch<{ layouts: LayoutSummary[] }>('/api/layouts')).layouts
+    layouts.value = (await requestFetch<{ layouts: LayoutSummary[] }>('/api/layouts?archived=1')).layouts
     loaded.value = true
   }
 
@@ -37,5 +37,6 @@ export const useLayoutsStore = defineStore('layouts', () => {
     return made
   }
 
-  return { layouts: readonly(layouts), loaded, load, bySlug, create, update, remove, importFile }
+  // plain refs: Pinia hands the server's list to the browser through them (a readonly ref would not take it)
+  return { layouts, loaded, load, bySlug, create, update, remove, importFile }
 })

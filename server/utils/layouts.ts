@@ -26,7 +26,8 @@ interface ListRow {
   saved_at: Date | null
 }
 
-export async function listLayouts(): Promise<LayoutSummary[]> {
+/** Every layout, archived ones only when asked for. */
+export async function listLayouts({ archived = false } = {}): Promise<LayoutSummary[]> {
   const rows = await useDatabase().sequelize.query<ListRow>(`
     SELECT l.id, l.slug, l.name, l.version, l.latest_version, l.definition, l.updated_at, l.archived_at,
       EXISTS (SELECT 1 FROM operating_sessions s WHERE s.layout_id = l.id AND s.ended_at IS NULL) AS in_use,
@@ -35,6 +36,7 @@ export async function listLayouts(): Promise<LayoutSummary[]> {
     FROM layouts l
     LEFT JOIN layout_versions lv ON lv.layout_id = l.id AND lv.version = l.latest_version
     LEFT JOIN users u ON u.id = lv.created_by
+    ${archived ? '' : 'WHERE l.archived_at IS NULL'}
     ORDER BY l.name, l.id`, { type: QueryTypes.SELECT })
   return rows.map(row => ({
     id: row.id, slug: row.slug, name: row.name, version: row.version, latestVersion: row.latest_version,

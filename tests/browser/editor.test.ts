@@ -37,7 +37,7 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
   beforeAll(async () => {
     browser = await openBrowser({ width: 1024, height: 768 }, { hasTouch: true })
     browser.page.on('pageerror', e => problems.push(`page error: ${e.message}`))
-    browser.page.on('console', (m) => { if (m.type() === 'error' || /hydration/i.test(m.text())) problems.push(`console ${m.type()}: ${m.text()}`) })
+    browser.page.on('console', (m) => { if (m.type() === 'error' || /hydration/i.test(m.text())) problems.push(`console ${m.type()}: ${m.text()} (${browser.page.url()})`) })
   })
   afterAll(async () => {
     if (browser) await screenshot(browser.page, 'editor-last-seen')

@@ -83,7 +83,8 @@ describe('layouts: create, rename, duplicate, archive, delete', () => {
     expect(dup.status).toBe(201)
     expect(dup.body.slug).not.toBe(made.slug)
     expect((await admin.patch(`/api/layouts/${made.id}`, { archived: true })).body.layout.archived).toBe(true)
-    let list = (await admin.get('/api/layouts')).body.layouts
+    expect((await admin.get('/api/layouts')).body.layouts.map((l: { id: number }) => l.id)).not.toContain(made.id)
+    let list = (await admin.get('/api/layouts?archived=1')).body.layouts
     const row = list.find((l: { id: number }) => l.id === made.id)
     expect(row).toMatchObject({ archived: true, blocks: 4, signals: 3, turnouts: 0, inUse: false, hasJournal: false, lastSavedBy: adminName })
     await admin.patch(`/api/layouts/${made.id}`, { archived: false })
