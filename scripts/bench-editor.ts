@@ -60,7 +60,7 @@ try {
     await page.goto('/layouts')
     const t0 = Date.now()
     await page.goto(`/layouts/${SLUG}/edit`)
-    await page.locator(`[data-test="block-${last}"]`).waitFor({ timeout: 60_000 })
+    await page.locator(`[data-test="block-${last}"]`).waitFor({ state: 'attached', timeout: 60_000 })
     await page.locator('[data-test="editor-errors"]').waitFor()
     opens.push(Date.now() - t0)
   }
@@ -79,7 +79,7 @@ try {
   }, [x, y] as [number, number])
   const start = await toScreen(mid[0], mid[1])
   await page.mouse.click(start.x, start.y)
-  await page.locator('[data-test="selection"]').first().waitFor()
+  await page.locator('[data-test="selection"]').first().waitFor({ state: 'attached' })
   await page.evaluate((id) => {
     const w = window as unknown as { benchMoves: number[], benchDom: number[], benchFrame: number[] }
     w.benchMoves = []
