@@ -24,11 +24,13 @@ ensure_node_modules() {
 }
 
 ensure_test_packages() {
-  # Debian's chromium (browser tests) and mosquitto + mosquitto_pub (MQTT interoperability tests).
+  # Debian's chromium (browser tests), mosquitto + mosquitto_pub (MQTT interoperability tests), poppler-utils.
   local missing=()
   command -v chromium >/dev/null 2>&1 || missing+=(chromium fonts-dejavu-core)
   command -v mosquitto >/dev/null 2>&1 || [ -x /usr/sbin/mosquitto ] || missing+=(mosquitto)
   command -v mosquitto_pub >/dev/null 2>&1 || missing+=(mosquitto-clients)
+  # pdftoppm: the printed wiring schedule's PDF pages as pictures, to look at
+  command -v pdftoppm >/dev/null 2>&1 || missing+=(poppler-utils)
   [ ${#missing[@]} = 0 ] || { log "Installing Debian packages for the tests: ${missing[*]}"; apt_install "${missing[@]}"; }
 }
 

@@ -22,6 +22,8 @@ export class Layout extends Model<InferAttributes<Layout>, InferCreationAttribut
   declare name: string
   declare definition: unknown
   declare version: CreationOptional<number>
+  declare latestVersion: CreationOptional<number>
+  declare archivedAt: CreationOptional<Date | null>
   declare createdAt: CreationOptional<Date>
   declare updatedAt: CreationOptional<Date>
 }
@@ -31,6 +33,8 @@ export class LayoutVersion extends Model<InferAttributes<LayoutVersion>, InferCr
   declare layoutId: ForeignKey<Layout['id']>
   declare version: number
   declare definition: unknown
+  declare summary: CreationOptional<object>
+  declare valid: CreationOptional<boolean>
   declare createdBy: ForeignKey<User['id']> | null
   declare createdAt: CreationOptional<Date>
 }
@@ -74,6 +78,13 @@ export class EndedSession extends Model<InferAttributes<EndedSession>, InferCrea
   declare endedAt: CreationOptional<Date>
 }
 
+export class LayoutWiring extends Model<InferAttributes<LayoutWiring>, InferCreationAttributes<LayoutWiring>> {
+  declare layoutId: number
+  declare kind: 'detector' | 'signal' | 'turnout'
+  declare itemId: string
+  declare deviceId: number
+}
+
 export interface Models {
   User: typeof User
   Layout: typeof Layout
@@ -82,6 +93,7 @@ export interface Models {
   JournalEvent: typeof JournalEvent
   Device: typeof Device
   EndedSession: typeof EndedSession
+  LayoutWiring: typeof LayoutWiring
 }
 
 const timestamps = { underscored: true, timestamps: true } as const
@@ -106,6 +118,8 @@ export function defineModels(sequelize: Sequelize): Models {
     name: { type: DataTypes.STRING(120), allowNull: false },
     definition: { type: DataTypes.JSONB, allowNull: false },
     version: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+    latestVersion: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+    archivedAt: { type: DataTypes.DATE, allowNull: true },
     createdAt: DataTypes.DATE,
     updatedAt: DataTypes.DATE,
   }, { sequelize, tableName: 'layouts', ...timestamps })
@@ -114,6 +128,8 @@ export function defineModels(sequelize: Sequelize): Models {
     id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
     version: { type: DataTypes.INTEGER, allowNull: false },
     definition: { type: DataTypes.JSONB, allowNull: false },
+    summary: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
+    valid: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: true },
     createdAt: DataTypes.DATE,
   }, { sequelize, tableName: 'layout_versions', underscored: true, timestamps: true, updatedAt: false })
 
@@ -148,6 +164,12 @@ export function defineModels(sequelize: Sequelize): Models {
     id: { type: DataTypes.STRING(64), primaryKey: true },
     endedAt: { type: DataTypes.DATE, allowNull: false, defaultValue: DataTypes.NOW },
   }, { sequelize, tableName: 'ended_sessions', underscored: true, timestamps: false })
+  LayoutWiring.init({
+    layoutId: { type: DataTypes.INTEGER, allowNull: false, primaryKey: true },
+    kind: { type: DataTypes.STRING(16), allowNull: false, primaryKey: true },
+    itemId: { type: DataTypes.STRING(40), allowNull: false, primaryKey: true },
+    deviceId: { type: DataTypes.INTEGER, allowNull: false },
+  }, { sequelize, tableName: 'layout_wiring', underscored: true, timestamps: false })
 
   Layout.hasMany(LayoutVersion, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(Layout, { foreignKey: 'layoutId' })
@@ -160,5 +182,5 @@ export function defineModels(sequelize: Sequelize): Models {
   Device.belongsTo(Layout, { foreignKey: 'layoutId' })
   EndedSession.belongsTo(User, { foreignKey: 'userId' })
 
-  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device, EndedSession }
+  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device, EndedSession, LayoutWiring }
 }

@@ -213,6 +213,11 @@ export class LayoutRuntime {
     }
   }
 
+  /** Who is connected and how many times, for the runtime that replaces this one on a reload. */
+  connectedOperators(): { user: LiveUser, count: number }[] {
+    return [...this.connections.values()].map(c => ({ ...c }))
+  }
+
   operators(): LiveUser[] {
     return [...this.connections.values()].map(c => c.user).sort((a, b) => a.name.localeCompare(b.name))
   }

@@ -2,7 +2,10 @@ import { randomBytes } from 'node:crypto'
 import { join } from 'node:path'
 import mqtt, { type MqttClient } from 'mqtt'
 import { validateLayout } from '#shared/signalling'
-import { HEARTBEAT_MS, type ServerMessage } from '#shared/live/protocol'
+import { HEARTBEAT_MS, type AreaHolders, type ServerMessage } from '#shared/live/protocol'
+import type { Layout } from '#shared/schemas/layout'
+import type { LayoutState } from '#shared/signalling'
+import type { Layout as LayoutRow } from '../database/models'
 import type { Database } from '../database/connection'
 import { hashPasswordOutsideNitro, verifyPasswordOutsideNitro } from '../database/password-hash'
 import { startBroker, type RunningBroker } from './broker'
@@ -14,6 +17,7 @@ import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } f
 import { INPUT_FILTERS, parseInputTopic } from '#shared/live/topics'
 import { LayoutRuntime } from './runtime'
 import { restoreLayoutState } from './restore'
+import { carryAreas, carryState } from './layout-reload'
 
 export interface LiveSettings {
   /** External broker; when set, no broker is started here. */
@@ -139,24 +143,12 @@ export class LiveService {
     this.connectBridge(url, this.settings.mqttUrl ? {} : internal)
   }
 
-  /** Loads every layout from the database; retries while PostgreSQL is unreachable. */
+  /** Loads every layout that is not archived; retries while PostgreSQL is unreachable. */
   private async loadLayouts(): Promise<void> {
     for (let attempt = 1; ; attempt++) {
       try {
-        const rows = await this.db.models.Layout.findAll()
-        for (const row of rows) {
-          const checked = validateLayout(row.definition)
-          if (!checked.ok) { log(`layout ${row.slug} is not valid and is not run: ${checked.errors.map(e => `${e.path}: ${e.message}`).join('; ')}`); continue }
-          const restored = await restoreLayoutState(this.db, row.id, checked.layout)
-          this.runtimes.set(row.slug, new LayoutRuntime({
-            layoutId: row.id, slug: row.slug, layout: checked.layout, debounceMs: this.settings.debounceMs,
-            state: restored.state, areas: restored.areas,
-            areaGraceMs: this.settings.areaGraceMs, handOverTimeoutMs: this.settings.handOverTimeoutMs,
-            publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
-            journal: this.journal,
-            broadcast: (message: ServerMessage) => this.hub.broadcast(row.slug, message),
-          }))
-        }
+        const rows = await this.db.models.Layout.findAll({ where: { archivedAt: null } })
+        for (const row of rows) await this.startRuntime(row)
         log(`live layouts: ${[...this.runtimes.keys()].join(', ') || 'none'}`)
         return
       } catch (error) {
@@ -164,6 +156,68 @@ export class LiveService {
         await new Promise(resolve => setTimeout(resolve, Math.min(5000, 500 * attempt)))
       }
     }
+  }
+
+  private newRuntime(row: { id: number, slug: string }, layout: Layout, state: LayoutState, areas: AreaHolders): LayoutRuntime {
+    return new LayoutRuntime({
+      layoutId: row.id, slug: row.slug, layout, debounceMs: this.settings.debounceMs, state, areas,
+      areaGraceMs: this.settings.areaGraceMs, handOverTimeoutMs: this.settings.handOverTimeoutMs,
+      publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
+      journal: this.journal,
+      broadcast: (message: ServerMessage) => this.hub.broadcast(row.slug, message),
+    })
+  }
+
+  private async startRuntime(row: LayoutRow): Promise<LayoutRuntime | null> {
+    const checked = validateLayout(row.definition)
+    if (!checked.ok) { log(`layout ${row.slug} is not valid and is not run: ${checked.errors.map(e => `${e.path}: ${e.message}`).join('; ')}`); return null }
+    const restored = await restoreLayoutState(this.db, row.id, checked.layout)
+    const runtime = this.newRuntime(row, checked.layout, restored.state, restored.areas)
+    this.runtimes.set(row.slug, runtime)
+    return runtime
+  }
+
+  /** A layout made (or restored from the archive) while the server runs gets its runtime at once. */
+  async startLayout(id: number): Promise<void> {
+    await this.ready
+    const row = await this.db.models.Layout.findByPk(id)
+    if (!row || row.archivedAt || this.runtimes.has(row.slug)) return
+    const runtime = await this.startRuntime(row)
+    if (!runtime) return
+    runtime.publishAllIndications()
+    log(`layout ${row.slug} is live`)
+  }
+
+  /**
+   * A layout's current version changed: its runtime is replaced by one on the new definition, carrying the
+   * state of everything the new version still has, and every panel on it gets a fresh snapshot. Operators
+   * connected to the old runtime are carried across after the snapshot, so they follow as the next delta.
+   */
+  async reloadLayout(id: number): Promise<void> {
+    await this.ready
+    const row = await this.db.models.Layout.findByPk(id)
+    if (!row || row.archivedAt) return
+    const old = this.runtimes.get(row.slug)
+    if (!old) return this.startLayout(id)
+    const checked = validateLayout(row.definition)
+    if (!checked.ok) return
+    old.stop()
+    const runtime = this.newRuntime(row, checked.layout, carryState(old.state(), checked.layout), carryAreas(old.areaHolders(), checked.layout))
+    this.runtimes.set(row.slug, runtime)
+    this.hub.broadcast(row.slug, runtime.snapshot())
+    for (const { user, count } of old.connectedOperators()) for (let i = 0; i < count; i++) runtime.connect(user)
+    runtime.publishAllIndications()
+    log(`layout ${row.slug} reloaded at version ${row.version}`)
+  }
+
+  /** An archived or deleted layout stops running; its panels are told. */
+  stopLayout(slug: string): void {
+    const runtime = this.runtimes.get(slug)
+    if (!runtime) return
+    runtime.stop()
+    this.runtimes.delete(slug)
+    this.hub.broadcast(slug, { type: 'error', message: `layout: "${slug}" no longer runs (archived or deleted).` })
+    log(`layout ${slug} stopped`)
   }
 
   private dummyHash: Promise<string> | null = null

@@ -18,3 +18,8 @@ export async function closeLive(): Promise<void> {
   service = undefined
   await running?.close()
 }
+
+/** The live service when this process runs one (not with BLOCKBELL_LIVE=0): saves tell it to follow. */
+export function liveLayouts(): LiveService | undefined {
+  return process.env.BLOCKBELL_LIVE === '0' ? undefined : useLive()
+}

@@ -23,10 +23,10 @@ export interface BrowserSession {
 selectors.setTestIdAttribute('data-test')
 
 /** `touch`: a touch-screen context (tablet), so tests can `tap()`. */
-export async function openBrowser(viewport = { width: 1280, height: 800 }, options: { touch?: boolean, baseURL?: string } = {}): Promise<BrowserSession> {
+export async function openBrowser(viewport = { width: 1280, height: 800 }, options: { touch?: boolean, hasTouch?: boolean, baseURL?: string } = {}): Promise<BrowserSession> {
   const profile = mkdtempSync(join(tmpdir(), 'blockbell-chromium-'))
   const context = await chromium.launchPersistentContext(profile, {
-    executablePath: CHROMIUM, headless: true, viewport, baseURL: options.baseURL ?? BASE_URL, hasTouch: options.touch ?? false,
+    executablePath: CHROMIUM, headless: true, viewport, baseURL: options.baseURL ?? BASE_URL, hasTouch: options.touch ?? options.hasTouch ?? false,
     args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
       '--disable-background-networking', '--disable-component-update', '--disable-sync'],
   })
