@@ -12,6 +12,7 @@ import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } f
 import { INPUT_FILTERS, parseInputTopic } from './topics'
 import { LayoutRuntime } from './runtime'
 import { restoreLayoutState } from './restore'
+import { runningLiveSession } from './session-live'
 
 export interface LiveSettings {
   /** External broker; when set, no broker is started here. */
@@ -83,9 +84,10 @@ export class LiveService {
           const checked = validateLayout(row.definition)
           if (!checked.ok) { log(`layout ${row.slug} is not valid and is not run: ${checked.errors.map(e => `${e.path}: ${e.message}`).join('; ')}`); continue }
           const restored = await restoreLayoutState(this.db, row.id, checked.layout)
+          const session = await runningLiveSession(this.db, row.id)
           this.runtimes.set(row.slug, new LayoutRuntime({
             layoutId: row.id, slug: row.slug, layout: checked.layout, debounceMs: this.settings.debounceMs,
-            state: restored.state, areas: restored.areas,
+            state: restored.state, areas: restored.areas, session,
             publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
             journal: this.journal,
             broadcast: (message: ServerMessage) => this.hub.broadcast(row.slug, message),

@@ -88,7 +88,9 @@ export type ServerMessage =
   | {
     type: 'snapshot', layout: string, seq: number, definition: Layout, state: LiveState,
     areas: AreaHolders, operators: LiveUser[], devices: Record<string, DeviceStatus>,
-    session: LiveSession | null, feed: FeedEntry[]
+    session: LiveSession | null, feed: FeedEntry[],
+    /** The server's clock (epoch ms) when the snapshot was made: panels work the fast clock out from it. */
+    serverTime: number
   }
   | { type: 'delta', layout: string, seq: number, changes: LiveChange[] }
   | { type: 'command-result', id: string, ok: true }

@@ -55,7 +55,7 @@ export class DemoRun {
     return {
       type: 'snapshot', layout: SLUG, seq: this.seq, definition: this.layout, state: this.liveState(),
       areas: structuredClone(this.areas), operators: structuredClone(this.operators), devices: structuredClone(this.devices),
-      session: this.session, feed: structuredClone(this.feed),
+      session: this.session, feed: structuredClone(this.feed), serverTime: this.at,
     }
   }
 
