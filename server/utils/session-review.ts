@@ -131,6 +131,12 @@ function eventFilters(layout: Layout, q: Omit<SessionEventsQuery, 'limit' | 'aft
   return { where, replacements }
 }
 
+/** The log names signals and blocks by id (what its filters take); areas by name. */
+function logNames(layout: Layout): LayoutNames {
+  const names = namesOf(layout)
+  return { block: id => id, signal: id => id, area: names.area }
+}
+
 function toEventRow(names: LayoutNames, people: Map<number, string>, r: EventRow): SessionEventRow {
   const who = r.user_id === null ? null : people.get(r.user_id) ?? null
   return {
@@ -152,7 +158,7 @@ export async function sessionEventsPage(sessionId: number, layout: Layout, q: Se
     { replacements: { ...replacements, sessionId, limit: q.limit + 1 }, type: QueryTypes.SELECT })
   const more = rows.length > q.limit
   const page = rows.slice(0, q.limit)
-  const names = namesOf(layout)
+  const names = logNames(layout)
   const people = await peopleNames()
   return {
     rows: page.map(r => toEventRow(names, people, r)),
@@ -168,7 +174,7 @@ export const CSV_COLUMNS = ['id', 'time', 'kind', 'subject', 'person', 'text', '
  */
 export async function sessionCsvStream(sessionId: number, layout: Layout, q: Omit<SessionEventsQuery, 'limit' | 'after' | 'order'>): Promise<Readable> {
   const { where, replacements } = eventFilters(layout, q)
-  const names = namesOf(layout)
+  const names = logNames(layout)
   const people = await peopleNames()
   // pg-query-stream takes $n parameters: turn the named ones into them.
   const values: unknown[] = []

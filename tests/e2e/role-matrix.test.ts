@@ -24,6 +24,16 @@ const ROUTES: RouteCase[] = [
   { file: 'devices/index.post.ts', method: 'POST', path: '/api/devices', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
   { file: 'devices/[id].patch.ts', method: 'PATCH', path: '/api/devices/999999', body: { disabled: true }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
   { file: 'layouts/index.get.ts', method: 'GET', path: '/api/layouts', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'sessions/index.get.ts', method: 'GET', path: '/api/sessions?limit=1', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'sessions/index.post.ts', method: 'POST', path: '/api/sessions', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 400, admin: 400 } },
+  { file: 'sessions/[id].get.ts', method: 'GET', path: '/api/sessions/999999', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'sessions/[id].delete.ts', method: 'DELETE', path: '/api/sessions/999999', body: { confirm: 'x' }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'sessions/[id]/end.post.ts', method: 'POST', path: '/api/sessions/999999/end', expect: { anonymous: 401, viewer: 403, signaller: 404, admin: 404 } },
+  { file: 'sessions/[id]/delete-preview.get.ts', method: 'GET', path: '/api/sessions/999999/delete-preview', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'sessions/[id]/events.get.ts', method: 'GET', path: '/api/sessions/999999/events', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'sessions/[id]/events.csv.get.ts', method: 'GET', path: '/api/sessions/999999/events.csv', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'sessions/[id]/replay.get.ts', method: 'GET', path: '/api/sessions/999999/replay?at=1', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'sessions/[id]/graph.get.ts', method: 'GET', path: '/api/sessions/999999/graph?route=UM1', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
   { file: 'layouts/[id].get.ts', method: 'GET', path: '/api/layouts/999999', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
 ]
 
