@@ -139,8 +139,8 @@ async function pageQueries(probe: Sequelize, layoutId: number) {
     WHERE layout_id = :layoutId AND at >= :from AND at < :to AND type = :type
     ORDER BY at, id LIMIT 100`
   const cases = [
-    { label: "type 'detector' (70 %), 1-day window", type: 'detector', days: 1 },
-    { label: "type 'alarm' (1 %), 7-day window", type: 'alarm', days: 7 },
+    { label: 'type \'detector\' (70 %), 1-day window', type: 'detector', days: 1 },
+    { label: 'type \'alarm\' (1 %), 7-day window', type: 'alarm', days: 7 },
   ]
   for (const c of cases) {
     const times: number[] = []

@@ -130,7 +130,8 @@ export async function benchSessions(): Promise<void> {
     const te = performance.now()
     const response = await fetch(`${base}${api}/events.csv`, { headers: { cookie: client.cookieHeader } })
     let bytes = 0
-    for await (const chunk of response.body!) bytes += (chunk as Uint8Array).length
+    const reader = response.body!.getReader()
+    for (let part = await reader.read(); !part.done; part = await reader.read()) bytes += part.value.length
     clearInterval(sampler)
     console.log(`   CSV export of ${EVENTS.toLocaleString('en')} rows: ${((performance.now() - te) / 1000).toFixed(1)} s, ${(bytes / 1e6).toFixed(0)} MB; server RSS idle ${(idle / 1e6).toFixed(0)} MB, peak ${(peak / 1e6).toFixed(0)} MB (+${((peak - idle) / 1e6).toFixed(0)} MB)`)
   } finally {

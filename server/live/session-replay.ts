@@ -4,7 +4,7 @@ import type { Layout } from '#shared/schemas/layout'
 import { createEngine, type Engine, type LayoutState } from '#shared/signalling'
 import type { AreaHolders } from '#shared/live/protocol'
 import { FOLDED_TYPES, journalEntryToEvent } from '#shared/live/session-fold'
-import type { ReplayState } from '#shared/types/sessions'
+import type { JournalPayload, ReplayState } from '#shared/types/sessions'
 import type { Database } from '../database/connection'
 
 /** A checkpoint is stored after this many folded inputs, or this much session time, whichever comes first. */
@@ -15,7 +15,7 @@ const READ_CHUNK = 5000
 export interface CheckpointState { engine: LayoutState, areas: AreaHolders }
 
 interface CheckpointRow { event_id: string, at: Date, events_folded: number, state: CheckpointState }
-interface InputRow { id: string, at: Date, type: string, payload: Record<string, any>, user_id: number | null }
+interface InputRow { id: string, at: Date, type: string, payload: JournalPayload, user_id: number | null }
 
 const foldedTypes = FOLDED_TYPES.map(t => `'${t}'`).join(', ')
 
@@ -42,6 +42,9 @@ async function latestCheckpoint(db: Database, sessionId: number): Promise<Checkp
 }
 
 const building = new Map<number, Promise<number>>()
+/** Sessions whose every checkpoint is stored: ended well before their last build began. */
+const complete = new Set<number>()
+const SETTLED_MS = 10_000
 
 /**
  * Folds the session's inputs after its last checkpoint through the engine, storing a checkpoint every
@@ -50,6 +53,7 @@ const building = new Map<number, Promise<number>>()
  * One build per session at a time; returns the number of checkpoints added.
  */
 export function extendCheckpoints(db: Database, sessionId: number, layout: Layout): Promise<number> {
+  if (complete.has(sessionId)) return Promise.resolve(0)
   const running = building.get(sessionId)
   if (running) return running
   const work = buildCheckpoints(db, sessionId, layout).finally(() => building.delete(sessionId))
@@ -58,6 +62,15 @@ export function extendCheckpoints(db: Database, sessionId: number, layout: Layou
 }
 
 async function buildCheckpoints(db: Database, sessionId: number, layout: Layout): Promise<number> {
+  const [session] = await db.sequelize.query<{ ended_at: Date | null }>(`SELECT ended_at FROM operating_sessions WHERE id = :sessionId`,
+    { replacements: { sessionId }, type: QueryTypes.SELECT })
+  const settled = !!session?.ended_at && Date.now() - session.ended_at.getTime() > SETTLED_MS
+  const added = await foldIntoCheckpoints(db, sessionId, layout)
+  if (settled) complete.add(sessionId)
+  return added
+}
+
+async function foldIntoCheckpoints(db: Database, sessionId: number, layout: Layout): Promise<number> {
   const last = await latestCheckpoint(db, sessionId)
   if (!last) return 0
   const engine = createEngine(layout, last.state.engine)

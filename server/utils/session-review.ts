@@ -1,5 +1,6 @@
 import { Transform, type Readable } from 'node:stream'
 import { QueryTypes } from 'sequelize'
+import type pg from 'pg'
 import QueryStream from 'pg-query-stream'
 import { stringify } from 'csv-stringify'
 import type { Layout } from '#shared/schemas/layout'
@@ -8,10 +9,10 @@ import { describeJournalRow } from '#shared/live/journal-text'
 import { areaIntervals, type AreaCommand } from '#shared/live/session-areas'
 import { buildTimeDistance } from '#shared/live/session-graph'
 import type { SessionEventsQuery } from '#shared/schemas/session'
-import type { GraphData, SessionEventRow, SessionEventsPage, SessionSummary } from '#shared/types/sessions'
+import type { GraphData, JournalPayload, SessionEventRow, SessionEventsPage, SessionSummary } from '#shared/types/sessions'
 import type { CheckpointState } from '../live/session-replay'
 
-interface EventRow { id: string, at: Date, type: string, subject: string | null, payload: Record<string, any>, user_id: number | null }
+interface EventRow { id: string, at: Date, type: string, subject: string | null, payload: JournalPayload, user_id: number | null }
 
 async function peopleNames(): Promise<Map<number, string>> {
   const users = await useDatabase().models.User.findAll({ attributes: ['id', 'name'] })
@@ -52,8 +53,8 @@ export async function sessionSummary(sessionId: number, layout: Layout, startedA
     FROM events WHERE session_id = :sessionId AND type = 'description' AND payload->>'description' IS NOT NULL
     GROUP BY 1 ORDER BY min(at)`)
 
-  const alarms = await q<{ payload: any }>(`SELECT payload FROM events WHERE session_id = :sessionId AND type = 'alarm' ORDER BY id`)
-  const acks = await q<{ payload: any, user_id: number | null }>(`SELECT payload, user_id FROM events WHERE session_id = :sessionId AND type = 'alarm-acknowledged' ORDER BY id`)
+  const alarms = await q<{ payload: JournalPayload }>(`SELECT payload FROM events WHERE session_id = :sessionId AND type = 'alarm' ORDER BY id`)
+  const acks = await q<{ payload: JournalPayload, user_id: number | null }>(`SELECT payload, user_id FROM events WHERE session_id = :sessionId AND type = 'alarm-acknowledged' ORDER BY id`)
   const ackOf = new Map(acks.map(a => [String(a.payload.alarm?.id), a]))
   const dangerPasses = alarms.map(({ payload }) => {
     const a = payload.alarm ?? {}
@@ -69,7 +70,7 @@ export async function sessionSummary(sessionId: number, layout: Layout, startedA
 
   const dropouts = await q<{ block: string, count: string }>(`SELECT subject AS block, count(*) AS count FROM events
     WHERE session_id = :sessionId AND type = 'dropout' GROUP BY 1 ORDER BY 2 DESC, 1`)
-  const speeds = await q<{ at: Date, payload: any }>(`SELECT at, payload FROM events WHERE session_id = :sessionId AND type = 'speed' ORDER BY id LIMIT 5000`)
+  const speeds = await q<{ at: Date, payload: JournalPayload }>(`SELECT at, payload FROM events WHERE session_id = :sessionId AND type = 'speed' ORDER BY id LIMIT 5000`)
   const [{ count }] = await q<{ count: string }>(`SELECT count(*) FROM events WHERE session_id = :sessionId`) as [{ count: string }]
 
   return {
@@ -185,10 +186,14 @@ export async function sessionCsvStream(sessionId: number, layout: Layout, q: Omi
       values.push(v)
       return `$${values.length}`
     })
-  const manager = useDatabase().sequelize.connectionManager as unknown as { getConnection(o: object): Promise<any>, releaseConnection(c: any): Promise<void> }
+  const manager = useDatabase().sequelize.connectionManager as unknown as { getConnection(o: object): Promise<pg.PoolClient>, releaseConnection(c: pg.PoolClient): Promise<void> }
   const client = await manager.getConnection({ type: 'read' })
   let released = false
-  const release = () => { if (!released) { released = true; void manager.releaseConnection(client) } }
+  const release = () => {
+    if (released) return
+    released = true
+    void manager.releaseConnection(client)
+  }
   const rows: Readable = client.query(new QueryStream(sql, values, { batchSize: 500, highWaterMark: 500 }))
   const toRecord = new Transform({
     objectMode: true,
@@ -211,16 +216,18 @@ export async function sessionGraph(sessionId: number, layout: Layout, routeIds: 
   if (unknown.length) throw badFilter('route', `no block ${unknown.map(u => `"${u}"`).join(', ')} on this layout`)
   if (new Set(routeIds).size !== routeIds.length) throw badFilter('route', 'a block appears twice')
   const db = useDatabase()
-  const events = await db.sequelize.query<{ at: Date, subject: string, description: string | null, reason: string }>(
-    `SELECT at, subject, payload->>'description' AS description, payload->>'reason' AS reason FROM events
+  // Plain numbers and text from SQL: this can be every description step of a long night.
+  const events = await db.sequelize.query<{ at: string, subject: string, description: string | null, reason: string }>(
+    `SELECT (extract(epoch FROM at) * 1000)::bigint AS at, subject, payload->>'description' AS description, payload->>'reason' AS reason FROM events
      WHERE session_id = :sessionId AND type = 'description' AND subject IN (:route) ORDER BY id`,
     { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
-  const alarms = await db.sequelize.query<{ payload: any }>(
-    `SELECT payload FROM events WHERE session_id = :sessionId AND type = 'alarm' ORDER BY id`,
-    { replacements: { sessionId }, type: QueryTypes.SELECT })
+  const alarms = await db.sequelize.query<{ at: string, block: string, signal: string, description: string | null }>(
+    `SELECT payload#>>'{alarm,at}' AS at, payload#>>'{alarm,block}' AS block, payload#>>'{alarm,signal}' AS signal, payload#>>'{alarm,description}' AS description
+     FROM events WHERE session_id = :sessionId AND type = 'alarm' AND payload#>>'{alarm,block}' IN (:route) ORDER BY id`,
+    { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
   return buildTimeDistance(
     routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })),
-    events.map(e => ({ at: e.at.getTime(), block: e.subject, description: e.description, reason: e.reason })),
-    alarms.map(a => ({ at: a.payload.alarm.at, block: a.payload.alarm.block, signal: a.payload.alarm.signal, description: a.payload.alarm.description ?? null })),
+    events.map(e => ({ at: Number(e.at), block: e.subject, description: e.description, reason: e.reason })),
+    alarms.map(a => ({ at: Number(a.at), block: a.block, signal: a.signal, description: a.description })),
     from, to)
 }

@@ -9,21 +9,37 @@ import { extendCheckpoints, saveStartCheckpoint } from '../live/session-replay'
 import { useLive } from './live'
 
 interface SessionRow {
-  id: number, name: string, started_at: Date, ended_at: Date | null, fast_clock_ratio: number, fast_clock_start: string | null,
-  notes: string | null, layout_id: number, slug: string, layout_name: string, started_by: string | null, ended_by: string | null,
-  train_moves: string, spads: string, dropouts: string, operators: string[] | null
+  id: number
+  name: string
+  started_at: Date
+  ended_at: Date | null
+  fast_clock_ratio: number
+  fast_clock_start: string | null
+  notes: string | null
+  layout_id: number
+  slug: string
+  layout_name: string
+  started_by: string | null
+  ended_by: string | null
+  train_moves: string
+  spads: string
+  dropouts: string
+  operators: string[] | null
 }
 
-const SESSION_SELECT = `
-  SELECT s.id, s.name, s.started_at, s.ended_at, s.fast_clock_ratio, s.fast_clock_start, s.notes, s.layout_id,
-    l.slug, l.name AS layout_name, su.name AS started_by, eu.name AS ended_by,
+const SESSION_FIELDS = `s.id, s.name, s.started_at, s.ended_at, s.fast_clock_ratio, s.fast_clock_start, s.notes, s.layout_id,
+    l.slug, l.name AS layout_name, su.name AS started_by, eu.name AS ended_by`
+const SESSION_FROM = `FROM operating_sessions s JOIN layouts l ON l.id = s.layout_id
+  LEFT JOIN users su ON su.id = s.started_by LEFT JOIN users eu ON eu.id = s.ended_by`
+// The list's figures are counted from the session's own events (partial indexes on session_id and type).
+const SESSION_COUNTS = `
     (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'description' AND e.payload->>'reason' = 'step') AS train_moves,
     (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'alarm') AS spads,
     (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'dropout') AS dropouts,
     (SELECT array_agg(DISTINCT u.name ORDER BY u.name) FROM events e JOIN users u ON u.id = e.user_id
-      WHERE e.session_id = s.id AND e.type = 'command') AS operators
-  FROM operating_sessions s JOIN layouts l ON l.id = s.layout_id
-  LEFT JOIN users su ON su.id = s.started_by LEFT JOIN users eu ON eu.id = s.ended_by`
+      WHERE e.session_id = s.id AND e.type = 'command') AS operators`
+const SESSION_SELECT = `SELECT ${SESSION_FIELDS}, ${SESSION_COUNTS} ${SESSION_FROM}`
+const SESSION_SELECT_LIGHT = `SELECT ${SESSION_FIELDS}, '0' AS train_moves, '0' AS spads, '0' AS dropouts, NULL AS operators ${SESSION_FROM}`
 
 function toListItem(row: SessionRow, now = Date.now()): SessionListItem {
   const end = row.ended_at ? row.ended_at.getTime() : now
@@ -101,17 +117,17 @@ export async function listSessions(q: ListSessionsQuery): Promise<{ sessions: Se
   const rows = await db.sequelize.query<SessionRow>(`${SESSION_SELECT} ${filter} ORDER BY s.started_at DESC, s.id DESC LIMIT :limit OFFSET :offset`,
     { replacements, type: QueryTypes.SELECT })
   const [{ count }] = await db.sequelize.query<{ count: string }>(
-    `SELECT count(*) FROM operating_sessions s JOIN layouts l ON l.id = s.layout_id ${filter}`, { replacements, type: QueryTypes.SELECT }) as [{ count: string }]
+    `SELECT count(*) ${SESSION_FROM} ${filter}`, { replacements, type: QueryTypes.SELECT }) as [{ count: string }]
   const total = Number(count)
   return { sessions: rows.map(r => toListItem(r)), total, page: q.page, pages: Math.max(1, Math.ceil(total / q.limit)) }
 }
 
 export interface LoadedSession { row: SessionRow, layout: Layout }
 
-/** A session with its layout definition; 404 when there is none. */
-export async function loadSession(id: number): Promise<LoadedSession> {
+/** A session with its layout definition; 404 when there is none. The list's figures only when asked for. */
+export async function loadSession(id: number, withCounts = false): Promise<LoadedSession> {
   const db = useDatabase()
-  const [row] = await db.sequelize.query<SessionRow>(`${SESSION_SELECT} WHERE s.id = :id`, { replacements: { id }, type: QueryTypes.SELECT })
+  const [row] = await db.sequelize.query<SessionRow>(`${withCounts ? SESSION_SELECT : SESSION_SELECT_LIGHT} WHERE s.id = :id`, { replacements: { id }, type: QueryTypes.SELECT })
   if (!row) throw createError({ statusCode: 404, message: `id: no session with id ${id}` })
   const layoutRow = await db.models.Layout.findByPk(row.layout_id)
   const checked = validateLayout(layoutRow?.definition)
@@ -120,7 +136,7 @@ export async function loadSession(id: number): Promise<LoadedSession> {
 }
 
 export async function getSessionReview(id: number): Promise<SessionDetail> {
-  const { row, layout } = await loadSession(id)
+  const { row, layout } = await loadSession(id, true)
   return {
     ...toListItem(row),
     notes: row.notes, endedBy: row.ended_by, running: row.ended_at === null,

@@ -1,9 +1,10 @@
+import type { JournalPayload } from '../types/sessions'
 import type { LayoutNames } from './feed'
 
 export interface JournalRowForText {
   type: string
   subject: string | null
-  payload: Record<string, any>
+  payload: JournalPayload
   /** Name of the person the entry was made by, if any. */
   person: string | null
 }
@@ -51,7 +52,7 @@ export function describeJournalRow(n: LayoutNames, row: JournalRowForText, perso
   }
 }
 
-function describeCommand(n: LayoutNames, p: Record<string, any>, person: string | null, personName: (id: unknown) => string | null): string {
+function describeCommand(n: LayoutNames, p: JournalPayload, person: string | null, personName: (id: unknown) => string | null): string {
   const who = person ?? 'Someone'
   switch (p.action) {
     case 'take-area': case 'release-area': case 'force-release':

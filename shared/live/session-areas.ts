@@ -17,9 +17,9 @@ export function areaIntervals(startHolders: AreaHolders, start: number, commands
     open.delete(area)
   }
   for (const c of commands) {
-    if (c.action === 'take-area' && c.userId !== null) { close(c.area, c.at); open.set(c.area, { userId: c.userId, from: c.at }) }
-    else if (c.action === 'release-area' || c.action === 'force-release') close(c.area, c.at)
-    else if (c.action === 'hand-over' && c.to) { close(c.area, c.at); open.set(c.area, { userId: c.to, from: c.at }) }
+    const next = c.action === 'take-area' ? c.userId : c.action === 'hand-over' ? c.to ?? null : null
+    if (c.action === 'take-area' || c.action === 'hand-over' || c.action === 'release-area' || c.action === 'force-release') close(c.area, c.at)
+    if (next !== null) open.set(c.area, { userId: next, from: c.at })
   }
   for (const area of [...open.keys()]) close(area, end)
   return out.sort((a, b) => a.from - b.from || a.area.localeCompare(b.area))

@@ -1,4 +1,5 @@
 import type { LayoutEvent, TurnoutPosition } from '../signalling'
+import type { JournalPayload } from '../types/sessions'
 
 /** Journal entry types that carry an input of the engine; replaying them through the engine rebuilds the state. */
 export const FOLDED_TYPES = ['detector-input', 'turnout-input', 'command'] as const
@@ -6,7 +7,7 @@ export const FOLDED_TYPES = ['detector-input', 'turnout-input', 'command'] as co
 export interface FoldableRow {
   type: string
   at: number
-  payload: Record<string, any>
+  payload: JournalPayload
   userId: number | null
 }
 

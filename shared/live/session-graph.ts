@@ -14,7 +14,11 @@ export function buildTimeDistance(route: GraphBlock[], events: GraphDescriptionE
   const index = new Map<string, number>()
   const start: number[] = []
   let mm = 0
-  route.forEach((b, i) => { index.set(b.id, i); start.push(mm); mm += b.lengthMm })
+  route.forEach((b, i) => {
+    index.set(b.id, i)
+    start.push(mm)
+    mm += b.lengthMm
+  })
   const trains = new Map<string, { points: ([number, number] | null)[], lastIndex: number | null }>()
   const holder = new Map<string, string>()
   const line = (d: string) => {

@@ -1,5 +1,9 @@
 import type { Alarm, Indication, OverrideMode, TurnoutPosition } from '../signalling/types'
 
+/** A journal entry's payload: free-form JSON written by the live side, read here field by field. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+export type JournalPayload = Record<string, any>
+
 /** One line of the Sessions list. */
 export interface SessionListItem {
   id: number
@@ -22,12 +26,25 @@ export interface AreaShift { area: string, areaName: string, person: string, fro
 export interface CommandCount { kind: string, person: string | null, count: number }
 export interface TrainRun { description: string, moves: number, blocks: string[], firstAt: string, lastAt: string }
 export interface DangerPass {
-  alarm: string, signal: string, block: string, description: string | null, at: string,
-  acknowledgedAt: string | null, secondsToAcknowledge: number | null, acknowledgedBy: string | null
+  alarm: string
+  signal: string
+  block: string
+  description: string | null
+  at: string
+  acknowledgedAt: string | null
+  secondsToAcknowledge: number | null
+  acknowledgedBy: string | null
 }
 export interface BlockDropouts { block: string, blockName: string, count: number }
 export interface SpeedReading {
-  description: string, block: string, blockName: string, at: string, lengthMm: number, seconds: number, kmh: number, mph: number
+  description: string
+  block: string
+  blockName: string
+  at: string
+  lengthMm: number
+  seconds: number
+  kmh: number
+  mph: number
 }
 
 export interface SessionSummary {
