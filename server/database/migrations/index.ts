@@ -1,6 +1,7 @@
 import * as initial from './0001-initial'
 import * as devicesAndEventKeys from './0002-devices-and-event-keys'
 import * as operatingSessionReview from './0006-operating-session-review'
+import * as trackCleaning from './0010-track-cleaning'
 
 /**
  * Every migration, in order. Listed by hand (not globbed) so the same list works under tsx and inside the
@@ -10,4 +11,5 @@ export const migrations = [
   { name: '0001-initial', ...initial },
   { name: '0002-devices-and-event-keys', ...devicesAndEventKeys },
   { name: '0006-operating-session-review', ...operatingSessionReview },
+  { name: '0010-track-cleaning', ...trackCleaning },
 ]
