@@ -77,6 +77,7 @@ export class DemoRun {
       for (const p of people) if (!now.some(o => o.id === p.id)) this.runtime.connect(p)
     })
   }
+
   get areas(): AreaHolders { return structuredClone(this.runtime.areaHolders()) }
 
   /** Hands the areas to these holders (null: free) through real take, release and force-release commands. */
