@@ -18,8 +18,8 @@ export interface PanelView {
   devices: Record<string, DeviceStatus>
   session: LiveSession | null
   feed: FeedEntry[]
-  /** Server clock minus this device's clock, from the last snapshot: clocks shown are the server's. */
-  clockOffsetMs: number
+  /** The server's clock (epoch ms) when the last snapshot was made: clocks shown are worked out from it. */
+  serverTime: number | null
 }
 
 export type SnapshotMessage = Extract<ServerMessage, { type: 'snapshot' }>
@@ -36,7 +36,7 @@ function emptyState(): LiveState {
 }
 
 export function emptyView(): PanelView {
-  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, operators: [], devices: {}, session: null, feed: [], clockOffsetMs: 0 }
+  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, operators: [], devices: {}, session: null, feed: [], serverTime: null }
 }
 
 /**
@@ -44,7 +44,7 @@ export function emptyView(): PanelView {
  * view never shares objects with the message (later deltas do not change the message).
  * The definition is frozen: it is read-only, and a reactive store then leaves it unwrapped.
  */
-export function applySnapshot(view: PanelView, msg: SnapshotMessage, receivedAt = Date.now()): void {
+export function applySnapshot(view: PanelView, msg: SnapshotMessage): void {
   view.layout = msg.layout
   view.seq = msg.seq
   view.definition = Object.isFrozen(msg.definition) ? msg.definition : Object.freeze(structuredClone(msg.definition))
@@ -54,7 +54,7 @@ export function applySnapshot(view: PanelView, msg: SnapshotMessage, receivedAt 
   view.devices = structuredClone(msg.devices)
   view.session = msg.session ? { ...msg.session } : null
   view.feed = msg.feed.slice(-FEED_LIMIT).map(e => ({ ...e }))
-  view.clockOffsetMs = Number.isFinite(msg.serverTime) ? msg.serverTime - receivedAt : 0
+  view.serverTime = Number.isFinite(msg.serverTime) ? msg.serverTime : null
 }
 
 /**
