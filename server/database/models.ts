@@ -48,6 +48,8 @@ export class OperatingSession extends Model<InferAttributes<OperatingSession>, I
   declare startedBy: ForeignKey<User['id']> | null
   declare fastClockRatio: CreationOptional<number>
   declare fastClockStart: CreationOptional<string | null>
+  declare notes: CreationOptional<string | null>
+  declare endedBy: ForeignKey<User['id']> | null
 }
 
 export class JournalEvent extends Model<InferAttributes<JournalEvent>, InferCreationAttributes<JournalEvent>> {
@@ -140,6 +142,7 @@ export function defineModels(sequelize: Sequelize): Models {
     endedAt: { type: DataTypes.DATE, allowNull: true },
     fastClockRatio: { type: DataTypes.REAL, allowNull: false, defaultValue: 1 },
     fastClockStart: { type: DataTypes.STRING(5), allowNull: true },
+    notes: { type: DataTypes.TEXT, allowNull: true },
   }, { sequelize, tableName: 'operating_sessions', underscored: true, timestamps: false })
 
   JournalEvent.init({
@@ -176,6 +179,7 @@ export function defineModels(sequelize: Sequelize): Models {
   LayoutVersion.belongsTo(User, { foreignKey: 'createdBy', as: 'author' })
   OperatingSession.belongsTo(Layout, { foreignKey: 'layoutId' })
   OperatingSession.belongsTo(User, { foreignKey: 'startedBy', as: 'starter' })
+  OperatingSession.belongsTo(User, { foreignKey: 'endedBy', as: 'ender' })
   JournalEvent.belongsTo(Layout, { foreignKey: 'layoutId' })
   JournalEvent.belongsTo(OperatingSession, { foreignKey: 'sessionId' })
   JournalEvent.belongsTo(User, { foreignKey: 'userId' })

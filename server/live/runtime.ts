@@ -454,6 +454,23 @@ export class LayoutRuntime {
     this.deps.broadcast({ type: 'delta', layout: this.slug, seq: this.seq, changes })
   }
 
+  /**
+   * Starts (a session) or ends (null) the operating session. Entries from the start entry on carry the new
+   * session; the end entry is still the ended session's last. Every panel is told.
+   */
+  setSession(session: LiveSession | null, userId: number | null): void {
+    const at = this.now()
+    const changed = session ?? this.session
+    if (!changed) return
+    if (session) this.session = session
+    const text = session ? `Session ${session.name} started` : `Session ${changed.name} ended`
+    this.emit([{ type: 'session', session }, { type: 'feed', entry: this.pushFeed({ at, tone: 'info', text }) }],
+      { type: session ? 'session-started' : 'session-ended', subject: String(changed.id), payload: { name: changed.name }, userId, at })
+    if (!session) this.session = null
+  }
+
+  currentSession(): LiveSession | null { return this.session }
+
   snapshot(): ServerMessage {
     this.flushDelta()
     const s = this.engine.state()
@@ -465,6 +482,7 @@ export class LayoutRuntime {
       },
       areas: this.areas, unattended: this.unattended, offers: this.offers,
       operators: this.operators(), devices: this.devices, session: this.session, feed: this.feed,
+      serverTime: this.now(),
     }
   }
 

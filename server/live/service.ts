@@ -2,7 +2,7 @@ import { randomBytes } from 'node:crypto'
 import { join } from 'node:path'
 import mqtt, { type MqttClient } from 'mqtt'
 import { validateLayout } from '#shared/signalling'
-import { HEARTBEAT_MS, type AreaHolders, type ServerMessage } from '#shared/live/protocol'
+import { HEARTBEAT_MS, type AreaHolders, type LiveSession as OperatingSessionInfo, type ServerMessage } from '#shared/live/protocol'
 import type { Layout } from '#shared/schemas/layout'
 import type { LayoutState } from '#shared/signalling'
 import type { Layout as LayoutRow } from '../database/models'
@@ -18,6 +18,7 @@ import { INPUT_FILTERS, parseInputTopic } from '#shared/live/topics'
 import { LayoutRuntime } from './runtime'
 import { restoreLayoutState } from './restore'
 import { carryAreas, carryState } from './layout-reload'
+import { runningLiveSession } from './session-live'
 
 export interface LiveSettings {
   /** External broker; when set, no broker is started here. */
@@ -158,9 +159,9 @@ export class LiveService {
     }
   }
 
-  private newRuntime(row: { id: number, slug: string }, layout: Layout, state: LayoutState, areas: AreaHolders): LayoutRuntime {
+  private newRuntime(row: { id: number, slug: string }, layout: Layout, state: LayoutState, areas: AreaHolders, session: OperatingSessionInfo | null): LayoutRuntime {
     return new LayoutRuntime({
-      layoutId: row.id, slug: row.slug, layout, debounceMs: this.settings.debounceMs, state, areas,
+      layoutId: row.id, slug: row.slug, layout, debounceMs: this.settings.debounceMs, state, areas, session,
       areaGraceMs: this.settings.areaGraceMs, handOverTimeoutMs: this.settings.handOverTimeoutMs,
       publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
       journal: this.journal,
@@ -172,7 +173,8 @@ export class LiveService {
     const checked = validateLayout(row.definition)
     if (!checked.ok) { log(`layout ${row.slug} is not valid and is not run: ${checked.errors.map(e => `${e.path}: ${e.message}`).join('; ')}`); return null }
     const restored = await restoreLayoutState(this.db, row.id, checked.layout)
-    const runtime = this.newRuntime(row, checked.layout, restored.state, restored.areas)
+    const session = await runningLiveSession(this.db, row.id)
+    const runtime = this.newRuntime(row, checked.layout, restored.state, restored.areas, session)
     this.runtimes.set(row.slug, runtime)
     return runtime
   }
@@ -202,7 +204,7 @@ export class LiveService {
     const checked = validateLayout(row.definition)
     if (!checked.ok) return
     old.stop()
-    const runtime = this.newRuntime(row, checked.layout, carryState(old.state(), checked.layout), carryAreas(old.areaHolders(), checked.layout))
+    const runtime = this.newRuntime(row, checked.layout, carryState(old.state(), checked.layout), carryAreas(old.areaHolders(), checked.layout), old.currentSession())
     this.runtimes.set(row.slug, runtime)
     this.hub.broadcast(row.slug, runtime.snapshot())
     for (const { user, count } of old.connectedOperators()) for (let i = 0; i < count; i++) runtime.connect(user)

@@ -20,6 +20,8 @@ export interface PanelView {
   devices: Record<string, DeviceStatus>
   session: LiveSession | null
   feed: FeedEntry[]
+  /** The server's clock (epoch ms) when the last snapshot was made: clocks shown are worked out from it. */
+  serverTime: number | null
 }
 
 export type SnapshotMessage = Extract<ServerMessage, { type: 'snapshot' }>
@@ -36,7 +38,7 @@ function emptyState(): LiveState {
 }
 
 export function emptyView(): PanelView {
-  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, unattended: {}, offers: {}, operators: [], devices: {}, session: null, feed: [] }
+  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, unattended: {}, offers: {}, operators: [], devices: {}, session: null, feed: [], serverTime: null }
 }
 
 /**
@@ -56,6 +58,7 @@ export function applySnapshot(view: PanelView, msg: SnapshotMessage): void {
   view.devices = structuredClone(msg.devices)
   view.session = msg.session ? { ...msg.session } : null
   view.feed = msg.feed.slice(-FEED_LIMIT).map(e => ({ ...e }))
+  view.serverTime = Number.isFinite(msg.serverTime) ? msg.serverTime : null
 }
 
 /**

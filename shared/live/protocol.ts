@@ -117,7 +117,9 @@ export type ServerMessage =
     unattended?: UnattendedAreas,
     offers?: HandOverOffers,
     /** The latest feed entries, oldest first (newest last), as a panel keeps them. */
-    feed: FeedEntry[]
+    feed: FeedEntry[],
+    /** The server's clock (epoch ms) when the snapshot was made: panels work the fast clock out from it. */
+    serverTime: number
   }
   | { type: 'delta', layout: string, seq: number, changes: LiveChange[] }
   | { type: 'command-result', id: string, ok: true, note?: string }

@@ -38,12 +38,15 @@ export interface DemoRunOptions {
  * Operator steps (hold, interpose, acknowledge) are made by the holder of the item's area; when the area is
  * free, Ada (an admin) takes it first, within the same step.
  */
+/** The fixture's server clock at the start of a run (a fixed instant, unlike the test machine's clock). */
+export const DEMO_RUN_START = 1_767_000_000_000
+
 export class DemoRun {
   readonly layout = demoLayout()
   readonly runtime: LayoutRuntime
   readonly deltas: DeltaMessage[] = []
   readonly published: { topic: string, payload: string, retain: boolean }[] = []
-  at = 1_767_000_000_000
+  at = DEMO_RUN_START
 
   /** Starts with every turnout reported normal (as the fake layout does at start-up), so the signals can clear. */
   constructor(options: DemoRunOptions = {}) {
@@ -74,6 +77,7 @@ export class DemoRun {
       for (const p of people) if (!now.some(o => o.id === p.id)) this.runtime.connect(p)
     })
   }
+
   get areas(): AreaHolders { return structuredClone(this.runtime.areaHolders()) }
 
   /** Hands the areas to these holders (null: free) through real take, release and force-release commands. */

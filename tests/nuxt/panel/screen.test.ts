@@ -2,7 +2,7 @@
 import { afterEach, describe, expect, it } from 'vitest'
 import { mountSuspended } from '@nuxt/test-utils/runtime'
 import PanelScreen from '~/components/panel/PanelScreen.vue'
-import { DemoRun, MILO, SLUG, TAM, spadRun } from '../../support/live-fixtures'
+import { DEMO_RUN_START, DemoRun, MILO, SLUG, TAM, spadRun } from '../../support/live-fixtures'
 import type { TestLiveServer } from '../../support/live-server'
 import { goLive, signIn } from './helpers'
 
@@ -67,8 +67,10 @@ describe('Panel screen', () => {
 
   it('shows the fast clock, offline controllers, operators and the feed', async () => {
     signIn(TAM)
-    // started 30 real minutes ago at 4:1 from 06:00 -> 08:00 model time (docs/sources.md §6 arithmetic)
-    const run = new DemoRun({ session: { id: 3, name: 'Evening running', startedAt: Date.now() - 30 * 60_000, fastClockRatio: 4, fastClockStart: '06:00' } })
+    // started 30 real minutes ago at 4:1 from 06:00 -> 08:00 model time (docs/sources.md §6 arithmetic), by
+    // the server's clock: the fixture's server clock is far from this machine's, so only a panel that works
+    // from the snapshot's server time shows 08:00.
+    const run = new DemoRun({ session: { id: 3, name: 'Evening running', startedAt: DEMO_RUN_START - 30 * 60_000, fastClockRatio: 4, fastClockStart: '06:00' } })
     run.devices = { 'board-up': { online: true, at: run.at }, 'board-branch': { online: false, at: run.at } }
     run.areas = { main: TAM, branch: null }
     const ctx = await goLive(run)
