@@ -321,7 +321,7 @@ function subjectOf(change: Change): string | null {
     case 'block': case 'description': case 'speed': return change.block
     case 'indication': case 'override': return change.signal
     case 'turnout': return change.turnout
-    case 'alarm': case 'alarm-acknowledged': return change.alarm.signal
+    case 'alarm': case 'alarm-acknowledged': return change.alarm.kind === 'spad' ? change.alarm.signal : change.alarm.turnout
     default: return null
   }
 }
