@@ -113,7 +113,7 @@ export class LiveService {
       log(`MQTT bridge connected to ${url}`)
       client.subscribe(INPUT_FILTERS, { qos: 1 })
       // A broker that restarted may have lost the retained indications: publish them all again.
-      for (const runtime of this.runtimes.values()) runtime.publishAllIndications()
+      for (const runtime of this.runtimes.values()) runtime.publishAllRetained()
     })
     client.on('error', error => log(`MQTT bridge: ${error.message}`))
     client.on('offline', () => log('MQTT bridge offline; reconnecting'))

@@ -29,7 +29,7 @@ export const FEED_LIMIT = 50
 export function emptyState(): LiveState {
   return {
     occupied: {}, turnouts: {}, overrides: {}, descriptions: {}, alarms: [], indications: {},
-    signalRevisions: {}, turnoutRevisions: {}, dropouts: {},
+    signalRevisions: {}, turnoutRevisions: {}, dropouts: {}, locks: {},
   }
 }
 
@@ -100,6 +100,10 @@ export function applyChange(view: PanelView, change: LiveChange): void {
       upsertAlarm(s, change.alarm)
       break
     case 'dropout': s.dropouts[change.block] = change.at; break
+    case 'lock':
+      if (change.lock) s.locks[change.turnout] = { ...change.lock }
+      else delete s.locks[change.turnout]
+      break
     case 'areas': view.areas = structuredClone(change.areas); break
     case 'operators': view.operators = structuredClone(change.operators); break
     case 'device': view.devices[change.device] = { ...change.status }; break

@@ -34,7 +34,7 @@ export function commandTarget(c: LiveCommand): string {
   switch (c.action) {
     case 'take-area': case 'release-area': case 'force-release': case 'hand-over': return `area:${c.area}`
     case 'set-override': return `signal:${c.signal}`
-    case 'set-turnout': return `turnout:${c.turnout}`
+    case 'set-turnout': case 'force-turnout': return `turnout:${c.turnout}`
     case 'interpose': return `block:${c.block}`
     case 'acknowledge': return `alarm:${c.alarm}`
   }
@@ -50,6 +50,7 @@ export function commandLabel(c: LiveCommand, def: Layout | null, people: { id: n
     case 'hand-over': return `Hand ${nameOf(def?.areas, c.area)} over to ${people.find(p => p.id === c.to)?.name ?? `person ${c.to}`}`
     case 'set-override': return `${{ hold: 'Hold', auto: 'Auto', clear: 'Clear' }[c.mode]} ${nameOf(def?.signals, c.signal)}`
     case 'set-turnout': return `Throw ${c.turnout} to ${c.position}`
+    case 'force-turnout': return `Force ${c.turnout} to ${c.position}`
     case 'interpose': return c.description ? `Interpose ${c.description} in ${nameOf(def?.blocks, c.block)}` : `Clear the berth in ${nameOf(def?.blocks, c.block)}`
     case 'acknowledge': return 'Acknowledge the alarm'
   }

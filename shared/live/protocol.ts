@@ -4,6 +4,7 @@ import type { Layout } from '../schemas/layout'
 import type { Alarm, Change, Indication, OverrideMode, TurnoutPosition } from '../signalling'
 import type { Role } from '../utils/roles'
 import { OVERRIDE_MODES, TURNOUT_LEGS } from '../signalling/values'
+import type { TurnoutLockInfo } from './locking'
 
 /**
  * Blockbell's live protocol between a panel and the server, over one WebSocket at `/live`.
@@ -27,9 +28,11 @@ export const LiveCommand = z.discriminatedUnion('action', [
   z.object({ action: z.literal('hand-over'), area: ItemId, to: z.number().int().positive() }),
   z.object({ action: z.literal('set-override'), signal: ItemId, mode: z.enum(OVERRIDE_MODES), revision: Revision }),
   z.object({ action: z.literal('set-turnout'), turnout: ItemId, position: z.enum(TURNOUT_LEGS), revision: Revision }),
+  /** An admin's throw of a locked turnout, after the panel asked them to confirm it. */
+  z.object({ action: z.literal('force-turnout'), turnout: ItemId, position: z.enum(TURNOUT_LEGS), revision: Revision }),
   z.object({ action: z.literal('interpose'), block: ItemId, description: z.string().trim().max(16, 'a description is at most 16 characters') }),
   z.object({ action: z.literal('acknowledge'), alarm: z.string().min(1).max(40) }),
-], { error: 'action is one of take-area, release-area, force-release, hand-over, set-override, set-turnout, interpose, acknowledge' })
+], { error: 'action is one of take-area, release-area, force-release, hand-over, set-override, set-turnout, force-turnout, interpose, acknowledge' })
 export type LiveCommand = z.infer<typeof LiveCommand>
 
 export const ClientMessage = z.discriminatedUnion('type', [
@@ -70,6 +73,8 @@ export type LiveChange =
   | { type: 'dropout', block: string, detector: string, at: number }
   | { type: 'feed', entry: FeedEntry }
   | { type: 'session', session: LiveSession | null }
+  /** A turnout's lock came on, changed or came off (null). */
+  | { type: 'lock', turnout: string, lock: TurnoutLockInfo | null }
 
 export interface LiveState {
   occupied: Record<string, boolean>
@@ -82,6 +87,8 @@ export interface LiveState {
   turnoutRevisions: Record<string, number>
   /** Block -> epoch ms of the last detector dropout (a clear followed by occupied within the debounce). */
   dropouts: Record<string, number>
+  /** Locked turnouts only: why each may not be thrown now (shared/signalling/locking.ts). */
+  locks: Record<string, TurnoutLockInfo>
 }
 
 export type ServerMessage =

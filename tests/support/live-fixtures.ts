@@ -1,7 +1,7 @@
 // Live protocol messages for panel tests, made by the server's own LayoutRuntime over the demo layout
 // (Wrenfold Junction, an invented scenario). People are the invented Fernhollow Light Railway demo accounts.
 import demo from '#shared/layouts/demo-layout.json'
-import { computeIndications, validateLayout } from '#shared/signalling'
+import { computeIndications, turnoutLocks, validateLayout } from '#shared/signalling'
 import type { Layout, LayoutEvent, LayoutState } from '#shared/signalling'
 import type { AreaHolders, DeviceStatus, LiveChange, LiveSession, LiveState, LiveUser } from '#shared/live/protocol'
 import { areaOfBlock, areaOfSignal } from '#shared/live/rights'
@@ -26,9 +26,11 @@ export function detectorOf(layout: Layout, block: string): string {
 
 /** The engine state as the protocol's LiveState carries it, with the indications the engine computes for it. */
 export function toLiveState(layout: Layout, s: LayoutState, dropouts: Record<string, number> = {}): LiveState {
+  const indications = computeIndications(layout, s)
   return structuredClone({
     occupied: s.occupied, turnouts: s.turnouts, overrides: s.overrides, descriptions: s.descriptions, alarms: s.alarms,
-    indications: computeIndications(layout, s), signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts,
+    indications, signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts,
+    locks: turnoutLocks(layout, s, indications),
   })
 }
 
