@@ -22,6 +22,12 @@ export const NO_ANSWER_LOST = 'The connection dropped before the server answered
 export const NO_ANSWER_TIMEOUT = 'No answer from the server within 10 seconds: look at the diagram to see whether it took effect.'
 export const NOT_CONNECTED = 'Not connected: the command was not sent. Wait until the panel is live again.'
 
+/** How long the panel waits for a thrown turnout to report its new position before it says none came. */
+export const THROW_REPORT_MS = 5_000
+
+/** A throw the panel asked for, until the turnout reports the position asked for. */
+export interface ThrowRequest { commandId: string, position: 'normal' | 'reverse', at: number, late: boolean }
+
 let counter = 0
 
 /** A client id for a command: unique within this page, at most 40 characters (the protocol's limit). */
