@@ -13,10 +13,11 @@ export interface BrowserSession { context: BrowserContext, page: Page, close: ()
 // Components mark what tests look for with data-test="…".
 selectors.setTestIdAttribute('data-test')
 
-export async function openBrowser(viewport = { width: 1280, height: 800 }): Promise<BrowserSession> {
+/** `touch`: a tablet-like context (touch events, taps with `locator.tap()`). */
+export async function openBrowser(viewport = { width: 1280, height: 800 }, options: { touch?: boolean } = {}): Promise<BrowserSession> {
   const profile = mkdtempSync(join(tmpdir(), 'blockbell-chromium-'))
   const context = await chromium.launchPersistentContext(profile, {
-    executablePath: CHROMIUM, headless: true, viewport, baseURL: BASE_URL,
+    executablePath: CHROMIUM, headless: true, viewport, baseURL: BASE_URL, hasTouch: options.touch ?? false,
     args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
       '--disable-background-networking', '--disable-component-update', '--disable-sync'],
   })
