@@ -58,7 +58,6 @@ export class LayoutRuntime {
   private locks: Record<string, TurnoutLockInfo>
   /** The last throw asked for per turnout, until the turnout reports a position. */
   private requests = new Map<string, { position: 'normal' | 'reverse', userId: number, at: number }>()
-  readonly counters = { rejectedInputs: 0, refusedCommands: 0, events: 0 }
 
   constructor(private readonly deps: RuntimeDeps) {
     this.slug = deps.slug
@@ -114,7 +113,6 @@ export class LayoutRuntime {
   }
 
   rejectInput(where: string, reason: string): void {
-    this.counters.rejectedInputs++
     this.deps.journal.append({ layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null, at: this.now(), type: 'input-rejected', subject: where.slice(0, 64), payload: { reason }, userId: null })
   }
 
@@ -142,13 +140,9 @@ export class LayoutRuntime {
   /** Checks and carries out one command; the reason is shown to the operator when refused. */
   command(user: LiveUser, command: LiveCommand): CommandOutcome {
     const reason = this.unknownItem(command) ?? this.notAllowed(user, command) ?? this.staleRevision(command) ?? this.nothingToDo(command)
-    if (reason) {
-      this.counters.refusedCommands++
-      return { ok: false, reason }
-    }
+    if (reason) return { ok: false, reason }
     const lockRefusal = this.locked(command)
     if (lockRefusal) {
-      this.counters.refusedCommands++
       this.recordRefusal(user, command, lockRefusal)
       return { ok: false, reason: lockRefusal }
     }
@@ -318,7 +312,7 @@ export class LayoutRuntime {
   private applyCommand(event: LayoutEvent, user: LiveUser, journal: JournalFields): CommandOutcome {
     const changes = this.engine.apply(event)
     const error = changes.find(c => c.type === 'error')
-    if (error && error.type === 'error') { this.counters.refusedCommands++; return { ok: false, reason: error.message } }
+    if (error && error.type === 'error') return { ok: false, reason: error.message }
     this.publishAndEmit(changes, journal, user)
     return { ok: true }
   }
@@ -364,7 +358,6 @@ export class LayoutRuntime {
 
   /** Sends one numbered delta to the layout's panels and journals the input and each engine change. */
   private emit(changes: LiveChange[], journal?: JournalFields, engineChanges: Change[] = []): void {
-    this.counters.events++
     this.queueDelta(changes)
     if (!journal) return
     const base = { layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null }

@@ -19,7 +19,7 @@ export function areaOfSignal(def: Layout, signal: string): LayoutArea | null {
   return def.areas.find(a => a.signals.includes(signal)) ?? null
 }
 
-export function areaOfTurnout(def: Layout, turnout: string): LayoutArea | null {
+function areaOfTurnout(def: Layout, turnout: string): LayoutArea | null {
   return def.areas.find(a => a.turnouts.includes(turnout)) ?? null
 }
 
@@ -29,14 +29,14 @@ export function areaOfBlock(def: Layout, block: string): LayoutArea | null {
   return def.areas.find(a => a.signals.some(s => signals.has(s)) || a.turnouts.some(t => turnouts.has(t))) ?? null
 }
 
-export function holderOf(holders: AreaHolders, area: string): LiveUser | null {
+function holderOf(holders: AreaHolders, area: string): LiveUser | null {
   return holders[area] ?? null
 }
 
-export const VIEWER_REASON = 'You are signed in as a viewer: you can watch, not operate.'
+const VIEWER_REASON = 'You are signed in as a viewer: you can watch, not operate.'
 
 /** Whether `user` can work the items of `area` (null: the item is in no area). */
-export function verdictForArea(user: PanelUser | null, holders: AreaHolders, area: LayoutArea | null, what: string): Verdict {
+function verdictForArea(user: PanelUser | null, holders: AreaHolders, area: LayoutArea | null, what: string): Verdict {
   if (!user || !roleAtLeast(user.role, 'signaller')) return { allowed: false, area, reason: VIEWER_REASON }
   if (!area) return { allowed: false, area, reason: `This ${what} is in no area of control, so nobody works it from the panel.` }
   const holder = holderOf(holders, area.id)

@@ -112,7 +112,7 @@ export const Diagram = z.object({
     .default([]),
 })
 
-export const EMPTY_DIAGRAM = { width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] }
+const EMPTY_DIAGRAM = { width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] }
 
 export const LayoutDefinition = z.object({
   schema: z.literal(1, 'schema must be 1'),

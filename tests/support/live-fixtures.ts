@@ -1,7 +1,7 @@
 // Live protocol messages for panel tests, made by the server's own LayoutRuntime over the demo layout
 // (Wrenfold Junction, an invented scenario). People are the invented Fernhollow Light Railway demo accounts.
 import demo from '#shared/layouts/demo-layout.json'
-import { computeIndications, turnoutLocks, validateLayout } from '#shared/signalling'
+import { validateLayout } from '#shared/signalling'
 import type { Layout, LayoutEvent, LayoutState } from '#shared/signalling'
 import type { AreaHolders, DeviceStatus, LiveChange, LiveSession, LiveState, LiveUser } from '#shared/live/protocol'
 import { areaOfBlock, areaOfSignal } from '#shared/live/rights'
@@ -22,16 +22,6 @@ export function demoLayout(): Layout {
 
 export function detectorOf(layout: Layout, block: string): string {
   return layout.blocks.find(b => b.id === block)!.detectors[0]!
-}
-
-/** The engine state as the protocol's LiveState carries it, with the indications the engine computes for it. */
-export function toLiveState(layout: Layout, s: LayoutState, dropouts: Record<string, number> = {}): LiveState {
-  const indications = computeIndications(layout, s)
-  return structuredClone({
-    occupied: s.occupied, turnouts: s.turnouts, overrides: s.overrides, descriptions: s.descriptions, alarms: s.alarms,
-    indications, signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts,
-    locks: turnoutLocks(layout, s, indications),
-  })
 }
 
 type EventInput = LayoutEvent extends infer E ? E extends LayoutEvent ? Omit<E, 'at'> : never : never
@@ -181,7 +171,7 @@ export class DemoRun {
 }
 
 /**
- * A train described 1F42 (a headcode of the usual form, REFERENCES.md §5) enters the up approach from fiddle
+ * A train described 1F42 (a headcode of the usual form, docs/sources.md §5) enters the up approach from fiddle
  * road 1 and runs towards Quillbury while SU2 (Quillbury up starter) is held: it passes SU2 at danger.
  */
 export function spadRun(run = new DemoRun()): { run: DemoRun, deltas: DeltaMessage[] } {

@@ -1,4 +1,4 @@
-// Role-dependent controls (DESIGN.md "Roles"): only a signaller or admin holding the area works its
+// Role-dependent controls (README "Roles"): only a signaller or admin holding the area works its
 // signals and turnouts; others read who holds it; viewers get no controls at all. The panel talks to a
 // test /live server over a real WebSocket; states come from the real engine on the demo layout.
 import { afterEach, describe, expect, it, vi } from 'vitest'

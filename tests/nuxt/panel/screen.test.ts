@@ -80,7 +80,7 @@ describe('Panel screen', () => {
 
   it('shows the fast clock, offline controllers, operators and the feed', async () => {
     signIn(TAM)
-    // started 30 real minutes ago at 4:1 from 06:00 -> 08:00 model time (REFERENCES.md §6 arithmetic)
+    // started 30 real minutes ago at 4:1 from 06:00 -> 08:00 model time (docs/sources.md §6 arithmetic)
     const run = new DemoRun({ session: { id: 3, name: 'Evening running', startedAt: Date.now() - 30 * 60_000, fastClockRatio: 4, fastClockStart: '06:00' } })
     run.devices = { 'board-up': { online: true, at: run.at }, 'board-branch': { online: false, at: run.at } }
     run.areas = { main: TAM, branch: null }

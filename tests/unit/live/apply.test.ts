@@ -1,5 +1,5 @@
 // Applying the server's snapshot and deltas on the panel. The expected state is always the real signalling
-// engine's own state after the same events (shared/signalling, built to DESIGN.md "Signalling rules").
+// engine's own state after the same events (shared/signalling, built to README "Rules of operation").
 import { describe, expect, it } from 'vitest'
 import { FEED_LIMIT, applyDelta, applySnapshot, emptyView } from '#shared/live/apply'
 import { DemoRun, SLUG, TAM, spadRun } from '../../support/live-fixtures'
