@@ -6,7 +6,7 @@ import { nameOf } from './diagram'
 export type TurnoutLockInfo = NonNullable<TurnoutLock>
 
 const ASPECT_WORDS: Record<Indication['aspect'], string> = {
-  danger: 'danger', caution: 'caution', 'preliminary-caution': 'preliminary caution', proceed: 'proceed',
+  'danger': 'danger', 'caution': 'caution', 'preliminary-caution': 'preliminary caution', 'proceed': 'proceed',
 }
 
 /**

@@ -42,8 +42,7 @@ describe('the runtime on random layouts', () => {
           if (e.type === 'detector' && typeof e.occupied === 'boolean') rt.detectorInput(e.detector, e.occupied, at)
           else if (e.type === 'override' && layout.signals.some(s => s.id === e.signal)) {
             rt.command(TAM, { action: 'set-override', signal: e.signal, mode: e.mode, revision: rt.state().signalRevisions[e.signal]! })
-          }
-          else if (e.type === 'turnout' && e.position !== 'unknown' && layout.turnouts.some(t => t.id === e.turnout)) {
+          } else if (e.type === 'turnout' && e.position !== 'unknown' && layout.turnouts.some(t => t.id === e.turnout)) {
             const lock = turnoutLock(layout, rt.state(), e.turnout)
             const already = rt.state().turnouts[e.turnout] === e.position
             const outcome = rt.command(TAM, { action: 'set-turnout', turnout: e.turnout, position: e.position, revision: rt.state().turnoutRevisions[e.turnout]! })
@@ -51,8 +50,7 @@ describe('the runtime on random layouts', () => {
               accepted++
               expect(lock, `${e.turnout} accepted while locked`).toBeNull()
               expect(rt.state().turnouts[e.turnout]).not.toBe(e.position) // a request moves nothing by itself
-            }
-            else if (lock && !already) {
+            } else if (lock && !already) {
               refused++
               expect(outcome.reason).toMatch(new RegExp(`^${e.turnout} is locked: `))
             }

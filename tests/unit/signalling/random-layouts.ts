@@ -10,7 +10,7 @@ const KINDS: Kind[] = ['two-aspect', 'three-aspect', 'four-aspect', 'distant']
 export interface Plan {
   n: number
   shape: 'line' | 'loop' | 'both-ways'
-  spurs: { at: number; len: number; rejoin: number | null }[]
+  spurs: { at: number, len: number, rejoin: number | null }[]
   signalAt: boolean[]
   kinds: number[]
   endOfLine: boolean[]
@@ -21,14 +21,14 @@ export interface Plan {
 /** Builds a layout from a plan: a main line (open, loop, or worked both ways) with branches leaving and rejoining it. */
 export function build(plan: Plan): Layout | null {
   const { n, shape } = plan
-  const blocks: { id: string; name: string; lengthMm: number; detectors: string[] }[] = []
+  const blocks: { id: string, name: string, lengthMm: number, detectors: string[] }[] = []
   const addBlock = (id: string) => {
     const k = blocks.length
     const detectors = plan.twoDetectors[k % plan.twoDetectors.length] ? [`${id}a`, `${id}b`] : [`${id}a`]
     blocks.push({ id, name: id, lengthMm: 600 + 97 * k, detectors })
   }
-  const links: { from: string; to: string }[] = []
-  const turnouts: { id: string; block: string; normal: string; reverse: string }[] = []
+  const links: { from: string, to: string }[] = []
+  const turnouts: { id: string, block: string, normal: string, reverse: string }[] = []
   for (let i = 0; i < n; i++) addBlock(`M${i}`)
   const next = (i: number) => (i + 1 < n ? i + 1 : shape === 'loop' ? 0 : null)
   const prev = (i: number) => (i > 0 ? i - 1 : shape === 'loop' ? n - 1 : null)
@@ -69,7 +69,7 @@ export function build(plan: Plan): Layout | null {
     const kind = KINDS[plan.kinds[i % plan.kinds.length]! % KINDS.length]!
     const s: Record<string, unknown> = { id: `S${i}`, name: `S${i}`, kind, from: l.from, protects: l.to }
     s.endOfLine = plan.endOfLine[i % plan.endOfLine.length] ? 'clear-ahead' : 'danger-ahead'
-    const t = turnouts.find((x) => x.block === l.to && x.id.startsWith('TF'))
+    const t = turnouts.find(x => x.block === l.to && x.id.startsWith('TF'))
     if (plan.indicator && t && kind !== 'distant') s.indicators = { [t.reverse]: '4' }
     signals.push(s)
   })
@@ -95,10 +95,10 @@ export const layoutArb = planArb.map(build).filter((l): l is Layout => l !== nul
 
 /** Random events for a layout: mostly detector reports, with turnouts, overrides, descriptions, acknowledgements and bad input. */
 export function eventsArb(layout: Layout): fc.Arbitrary<LayoutEvent[]> {
-  const detectors = layout.blocks.flatMap((b) => b.detectors)
-  const pick = <T,>(xs: T[]) => fc.nat(1000).map((i) => xs[i % xs.length]!)
-  const turnouts = layout.turnouts.map((t) => t.id)
-  const signals = layout.signals.map((s) => s.id)
+  const detectors = layout.blocks.flatMap(b => b.detectors)
+  const pick = <T>(xs: T[]) => fc.nat(1000).map(i => xs[i % xs.length]!)
+  const turnouts = layout.turnouts.map(t => t.id)
+  const signals = layout.signals.map(s => s.id)
   const one: fc.Arbitrary<(at: number) => LayoutEvent> = fc.oneof(
     { weight: 10, arbitrary: fc.tuple(pick(detectors), fc.boolean()).map(([detector, occupied]) => (at: number) => ({ type: 'detector' as const, detector, occupied, at })) },
     {
@@ -116,7 +116,7 @@ export function eventsArb(layout: Layout): fc.Arbitrary<LayoutEvent[]> {
     {
       weight: 2,
       arbitrary: fc
-        .tuple(pick(layout.blocks.map((b) => b.id)), fc.constantFrom('1A01', '2B02', '', '3C03'))
+        .tuple(pick(layout.blocks.map(b => b.id)), fc.constantFrom('1A01', '2B02', '', '3C03'))
         .map(([block, description]) => (at: number) => ({ type: 'interpose' as const, block, description, at })),
     },
     { weight: 1, arbitrary: fc.tuple(fc.constantFrom('spad', 'lock'), fc.nat(4)).map(([kind, k]) => (at: number) => ({ type: 'acknowledge' as const, alarm: `${kind}-${k}`, at })) },
@@ -133,14 +133,14 @@ export function eventsArb(layout: Layout): fc.Arbitrary<LayoutEvent[]> {
     },
   )
   // a train run: a train appears in a block, may be described, and runs on block by block along random links
-  const firstDetector = new Map(layout.blocks.map((b) => [b.id, b.detectors[0]!]))
-  const outs = new Map(layout.blocks.map((b) => [b.id, layout.links.filter((l) => l.from === b.id).map((l) => l.to)]))
+  const firstDetector = new Map(layout.blocks.map(b => [b.id, b.detectors[0]!]))
+  const outs = new Map(layout.blocks.map(b => [b.id, layout.links.filter(l => l.from === b.id).map(l => l.to)]))
   const trainRun: fc.Arbitrary<((at: number) => LayoutEvent)[]> = fc
-    .tuple(pick(layout.blocks.map((b) => b.id)), fc.boolean(), fc.array(fc.nat(7), { minLength: 1, maxLength: 8 }))
+    .tuple(pick(layout.blocks.map(b => b.id)), fc.boolean(), fc.array(fc.nat(7), { minLength: 1, maxLength: 8 }))
     .map(([start, described, choices]) => {
       const det = (b: string, occupied: boolean) => (at: number) => ({ type: 'detector' as const, detector: firstDetector.get(b)!, occupied, at })
       const evs: ((at: number) => LayoutEvent)[] = [det(start, true)]
-      if (described) evs.push((at) => ({ type: 'interpose', block: start, description: '9Z99', at }))
+      if (described) evs.push(at => ({ type: 'interpose', block: start, description: '9Z99', at }))
       let cur = start
       for (const c of choices) {
         const o = outs.get(cur)!
@@ -151,14 +151,14 @@ export function eventsArb(layout: Layout): fc.Arbitrary<LayoutEvent[]> {
       }
       return evs
     })
-  const segment = fc.oneof({ weight: 3, arbitrary: one.map((e) => [e]) }, { weight: 1, arbitrary: trainRun })
+  const segment = fc.oneof({ weight: 3, arbitrary: one.map(e => [e]) }, { weight: 1, arbitrary: trainRun })
   return fc.array(fc.tuple(segment, fc.integer({ min: 0, max: 20_000 })), { minLength: 3, maxLength: 25 }).map((xs) => {
     let at = 1_700_000_000_000
-    return xs.flatMap(([mks, dt]) => mks.map((mk) => mk((at += dt))))
+    return xs.flatMap(([mks, dt]) => mks.map(mk => mk((at += dt))))
   })
 }
 
-export const scenarioArb = layoutArb.chain((layout) => fc.tuple(fc.constant(layout), eventsArb(layout)))
+export const scenarioArb = layoutArb.chain(layout => fc.tuple(fc.constant(layout), eventsArb(layout)))
 
 export function deepFreeze<T>(o: T): T {
   if (o && typeof o === 'object' && !Object.isFrozen(o)) {
@@ -167,4 +167,3 @@ export function deepFreeze<T>(o: T): T {
   }
   return o
 }
-
