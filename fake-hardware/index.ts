@@ -77,8 +77,7 @@ function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log): Mode {
         if (payload === '') {
           delete aspects[id]
           sim.setOverride(id, null)
-        }
-        else {
+        } else {
           const aspect = parseIndication(payload)
           sim.setOverride(id, parseOverride(payload))
           if (aspect) aspects[id] = aspect

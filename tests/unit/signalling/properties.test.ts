@@ -173,10 +173,12 @@ describe('applyEvent on random layouts and event sequences', () => {
               seen++
               expect(alarms).toHaveLength(1)
               expect(alarms[0]).toMatchObject({ turnout: t.id, block: t.block, signal, description: state.descriptions[t.block] ?? null, acknowledgedAt: null })
+            } else {
+              expect(alarms).toEqual([])
             }
-            else expect(alarms).toEqual([])
+          } else {
+            expect(alarms).toEqual([])
           }
-          else expect(alarms).toEqual([])
           state = r.state
         }
       }),
