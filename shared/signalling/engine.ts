@@ -261,8 +261,9 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       const t = topo.turnoutById.get(event.turnout)
       if (!t) return [unknown('turnout', `unknown turnout "${event.turnout}"`)]
       if (base.turnouts[t.id] === event.position) return []
-      // judged on the state just before the move: the move itself is a fact and is applied all the same
-      const lock = lockOf(topo, t.id, {
+      // judged on the state just before the move: the move itself is a fact and is applied all the same. A first
+      // report (from unknown) is not a move: it says where the turnout lies, as after a start-up.
+      const lock = base.turnouts[t.id] === 'unknown' ? null : lockOf(topo, t.id, {
         occupied: b => base.occupied[b] === true,
         position: id => base.turnouts[id] ?? 'unknown',
         aspect: id => draft.before(topo.signalById.get(id)!).aspect,

@@ -7,7 +7,7 @@ import { computeIndications, turnoutLock, turnoutLocks, type Layout } from '#sha
 import type { LiveUser } from '#shared/live/protocol'
 import { turnoutSetOf, layoutPrefix } from '#shared/live/topics'
 import { LayoutRuntime } from '../../../server/live/runtime'
-import { scenarioArb } from '../signalling/random-layouts'
+import { lockedMoveExample, scenarioArb } from '../signalling/random-layouts'
 
 const TAM: LiveUser = { id: 2, name: 'Tam Oakridge', role: 'signaller' }
 
@@ -63,7 +63,7 @@ describe('the runtime on random layouts', () => {
         }
         rt.stop()
       }),
-      { numRuns: 150 },
+      { numRuns: 150, examples: [[lockedMoveExample()]] },
     )
     expect(accepted).toBeGreaterThan(0)
     expect(refused).toBeGreaterThan(0)

@@ -111,6 +111,14 @@ describe('a reported move under a lock', () => {
     expect(acked.state.alarms[0]).toMatchObject({ acknowledgedAt: 4, acknowledgedBy: '7' })
   })
 
+  it('raises nothing for a first report (from unknown) under a train: it says where the turnout lies, it is no move', () => {
+    const s = state(facing, (l) => [occ(l, 'J')])
+    expect(turnoutLock(facing, s, 'TF')).toEqual({ reason: 'occupied', block: 'J' })
+    const r = applyEvent(facing, s, { type: 'turnout', turnout: 'TF', position: 'normal', at: 7 })
+    expect(r.state.turnouts.TF).toBe('normal')
+    expect(r.changes.some((c) => c.type === 'alarm')).toBe(false)
+  })
+
   it('raises nothing for a move of a free turnout, or a report of the position it already has', () => {
     const held = state(facing, () => [set('TF', 'normal'), mode('S1', 'hold')])
     expect(applyEvent(facing, held, { type: 'turnout', turnout: 'TF', position: 'reverse', at: 5 }).changes.some(c => c.type === 'alarm')).toBe(false)

@@ -167,3 +167,26 @@ export function deepFreeze<T>(o: T): T {
   }
   return o
 }
+
+/**
+ * A scenario sure to move a locked turnout, added to the random ones so that the lock alarm is always
+ * exercised: on a line A -> J -> N with a facing turnout in J, a train stands on J when the turnout moves.
+ */
+export function lockedMoveExample(): [Layout, LayoutEvent[]] {
+  const b = (id: string) => ({ id, name: id, lengthMm: 900, detectors: [`${id}a`] })
+  const r = validateLayout({
+    schema: 1, name: 'locked move', scale: { name: 'HO', ratio: 87.1 },
+    blocks: ['A', 'J', 'N', 'R'].map(b),
+    links: [{ from: 'A', to: 'J' }, { from: 'J', to: 'N' }, { from: 'J', to: 'R' }],
+    turnouts: [{ id: 'TJ', block: 'J', normal: 'N', reverse: 'R' }],
+    signals: [{ id: 'S1', name: 'S1', kind: 'three-aspect', from: 'A', protects: 'J', endOfLine: 'clear-ahead' }],
+  })
+  if (!r.ok) throw new Error(JSON.stringify(r.errors))
+  const at = 1_700_000_000_000
+  return [r.layout, [
+    { type: 'turnout', turnout: 'TJ', position: 'normal', at },
+    { type: 'turnout', turnout: 'TJ', position: 'reverse', at: at + 1000 }, // route-locked by S1
+    { type: 'detector', detector: 'Ja', occupied: true, at: at + 2000 },
+    { type: 'turnout', turnout: 'TJ', position: 'normal', at: at + 3000 }, // track-locked
+  ]]
+}
