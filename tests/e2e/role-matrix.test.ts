@@ -23,8 +23,13 @@ const ROUTES: RouteCase[] = [
   { file: 'devices/index.get.ts', method: 'GET', path: '/api/devices', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
   { file: 'devices/index.post.ts', method: 'POST', path: '/api/devices', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
   { file: 'devices/[id].patch.ts', method: 'PATCH', path: '/api/devices/999999', body: { disabled: true }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'journal/set-aside.get.ts', method: 'GET', path: '/api/journal/set-aside', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
   { file: 'layouts/index.get.ts', method: 'GET', path: '/api/layouts', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
   { file: 'layouts/[id].get.ts', method: 'GET', path: '/api/layouts/999999', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/maintenance.get.ts', method: 'GET', path: '/api/layouts/999999/maintenance', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/maintenance/thresholds.put.ts', method: 'PUT', path: '/api/layouts/999999/maintenance/thresholds', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'layouts/[id]/cleanings.get.ts', method: 'GET', path: '/api/layouts/999999/cleanings', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/cleanings.post.ts', method: 'POST', path: '/api/layouts/999999/cleanings', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 400, admin: 400 } },
 ]
 
 function apiRouteFiles(dir: string): string[] {
