@@ -1,7 +1,8 @@
 import type { LayoutArea } from '#shared/schemas/layout'
 import type { OverrideMode } from '#shared/signalling/types'
 import type { Verdict, PanelUser } from '#shared/live/rights'
-import { interposeVerdict, signalVerdict, turnoutVerdict } from '#shared/live/rights'
+import { forceTurnoutVerdict, interposeVerdict, signalVerdict, turnoutVerdict } from '#shared/live/rights'
+import type { TurnoutLeg } from '#shared/signalling/values'
 import { roleAtLeast } from '#shared/utils/roles'
 
 const NOT_LIVE = 'Not connected: controls wait until the panel is live again.'
@@ -32,11 +33,11 @@ export function usePanel() {
   const setOverride = (signal: string, mode: OverrideMode) =>
     live.send({ action: 'set-override', signal, mode, revision: live.view.state.signalRevisions[signal] ?? 0 })
 
-  function throwTurnout(turnout: string) {
-    const now = live.view.state.turnouts[turnout]
-    const position = now === 'normal' ? 'reverse' : 'normal'
-    return live.send({ action: 'set-turnout', turnout, position, revision: live.view.state.turnoutRevisions[turnout] ?? 0 })
-  }
+  const throwTurnout = (turnout: string, position: TurnoutLeg) =>
+    live.send({ action: 'set-turnout', turnout, position, revision: live.view.state.turnoutRevisions[turnout] ?? 0 })
+  const forceTurnout = (turnout: string, position: TurnoutLeg) =>
+    live.send({ action: 'force-turnout', turnout, position, revision: live.view.state.turnoutRevisions[turnout] ?? 0 })
+  const forForce = (id: string) => def.value ? gate(forceTurnoutVerdict(user.value, def.value, id)) : none
 
   const interpose = (block: string, description: string) => live.send({ action: 'interpose', block, description })
   const acknowledge = (alarm: string) => live.send({ action: 'acknowledge', alarm })
@@ -49,7 +50,7 @@ export function usePanel() {
 
   return {
     live, user, def, isLive, isSignaller,
-    forSignal, forTurnout, forBerth,
-    setOverride, throwTurnout, interpose, acknowledge, takeArea, releaseArea, forceRelease, handOver, acceptHandOver, declineHandOver,
+    forSignal, forTurnout, forBerth, forForce,
+    setOverride, throwTurnout, forceTurnout, interpose, acknowledge, takeArea, releaseArea, forceRelease, handOver, acceptHandOver, declineHandOver,
   }
 }

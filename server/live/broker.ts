@@ -114,7 +114,7 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
       const held = subscriptions.get(client) ?? new Set<string>()
       subscriptions.set(client, held)
       if (!identity || !deviceSubscribeAllowed(sub.topic, identity) || (!held.has(sub.topic) && held.size >= MAX_SUBSCRIPTIONS)) {
-        options.log(`MQTT subscription by ${client.id} to ${sub.topic} refused: a device may subscribe to its layout's signal/<id> and turnout/<id>/set topics`)
+        options.log(`MQTT subscription by ${client.id} to ${sub.topic} refused: a device may subscribe to its layout's signal/<id>, turnout/<id>/set and area/<id> topics`)
         return done(null, null) // refused in the SUBACK (return code 0x80)
       }
       held.add(sub.topic)

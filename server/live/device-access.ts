@@ -37,8 +37,8 @@ export function deviceRetainAllowed(topic: string): boolean {
 }
 
 /**
- * What a device may subscribe to: its layout's signal indications and turnout requests, by id or with `+`
- * for the id. Nothing else: no `#`, no `$SYS`, no other layout, no other device's messages.
+ * What a device may subscribe to: its layout's signal indications, turnout requests and held areas, by id or
+ * with `+` for the id. Nothing else: no `#`, no `$SYS`, no other layout, no other device's messages.
  */
 export function deviceSubscribeAllowed(filter: string, identity: BrokerIdentity): boolean {
   const parts = filter.split('/')
@@ -47,5 +47,6 @@ export function deviceSubscribeAllowed(filter: string, identity: BrokerIdentity)
   const idAllowed = id === '+' || plainLevel(id)
   if (parts[3] === 'signal' && parts.length === 5) return idAllowed
   if (parts[3] === 'turnout' && parts[5] === 'set' && parts.length === 6) return idAllowed
+  if (parts[3] === 'area' && parts.length === 5) return idAllowed
   return false
 }

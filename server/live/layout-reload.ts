@@ -30,7 +30,8 @@ export function carryState(previous: LayoutState, layout: Layout): LayoutState {
       next.signalRevisions[s] = previous.signalRevisions[s] ?? 0
     }
   }
-  next.alarms = previous.alarms.filter(a => a.signal in next.overrides)
+  // keep alarms whose signal and turnout the new version still has
+  next.alarms = previous.alarms.filter(a => (a.signal === null || a.signal in next.overrides) && (a.kind !== 'turnout-under-lock' || a.turnout in next.turnouts))
   next.alarmCount = previous.alarmCount
   next.revision = previous.revision
   return next

@@ -1,11 +1,13 @@
 import type { Layout, LayoutArea } from '#shared/schemas/layout'
-import { createEngine, type Change, type Engine, type LayoutEvent, type LayoutState } from '#shared/signalling'
+import { createEngine, lockOf, turnoutLocks, turnoutsTouchedBy, type Change, type Engine, type LayoutEvent, type LayoutState, type LockInputs, type TurnoutLock } from '#shared/signalling'
+import { topologyOf } from '#shared/signalling/topology'
+import { lockReason, type TurnoutLockInfo } from '#shared/live/locking'
 import { COMMAND_MAX_AGE_MS, type AreaHolders, type DeviceStatus, type FeedEntry, type HandOverOffers, type LiveChange, type LiveCommand, type LiveSession, type LiveUser, type ServerMessage, type UnattendedAreas } from '#shared/live/protocol'
 import { describeChange, namesOf, type LayoutNames } from '#shared/live/feed'
-import { acknowledgeVerdict, areaVerdict, handOverTargetVerdict, interposeVerdict, signalVerdict, turnoutVerdict, type Verdict } from '#shared/live/rights'
+import { acknowledgeVerdict, areaVerdict, forceTurnoutVerdict, handOverTargetVerdict, interposeVerdict, signalVerdict, turnoutVerdict, type Verdict } from '#shared/live/rights'
 import { roleAtLeast } from '#shared/utils/roles'
 import { DetectorDebounce } from './detector-debounce'
-import { signalPayload, signalTopic, turnoutSetTopic } from '#shared/live/topics'
+import { areaPayload, areaTopic, signalPayload, signalTopic, turnoutSetTopic } from '#shared/live/topics'
 
 export interface JournalSink {
   append(entry: { layoutId: number, sessionId: number | null, at: number, type: string, subject: string | null, payload: Record<string, unknown>, userId: number | null }): void
@@ -33,6 +35,8 @@ export const AREA_GRACE_MS = 60_000
 export const HAND_OVER_TIMEOUT_MS = 30_000
 
 const FEED_LENGTH = 30
+/** A report of the requested position within this time is credited to the person who asked for it. */
+const REQUEST_CREDIT_MS = 60_000
 
 /** What became of an operator's command: carried out, or refused with a reason the operator reads. */
 export type CommandOutcome = { ok: true, note?: string } | { ok: false, reason: string }
@@ -66,6 +70,10 @@ export class LayoutRuntime {
   private dropouts: Record<string, number> = {}
   private feed: FeedEntry[] = []
   private session: LiveSession | null
+  /** Locked turnouts only, kept up to date after every change (copied on write: a snapshot may hold it). */
+  private locks: Record<string, TurnoutLockInfo>
+  /** The last throw asked for per turnout, until the turnout reports a position. */
+  private requests = new Map<string, { position: 'normal' | 'reverse', userId: number, at: number }>()
 
   constructor(private readonly deps: RuntimeDeps) {
     this.slug = deps.slug
@@ -83,18 +91,23 @@ export class LayoutRuntime {
     const start = this.now()
     for (const holder of Object.values(this.areas)) if (holder && !this.awaySince.has(holder.id)) this.awaySince.set(holder.id, start)
     if (this.awaySince.size) this.later(this.graceMs, () => this.checkAttendance())
+    this.locks = turnoutLocks(deps.layout, this.engine.state(), this.engine.indications())
     this.debounce = new DetectorDebounce(deps.debounceMs ?? 300, {
       change: (detector, occupied, at) => this.applyInput({ type: 'detector', detector, occupied, at }, null),
       dropout: (detector, at) => this.recordDropout(detector, at),
     })
   }
 
-  /** Publishes every current indication (retained), so decoders that connect later get their aspect. */
-  publishAllIndications(): void {
+  /**
+   * Publishes every current indication and whether each area is held (retained), so decoders and the fake
+   * layout that connect later get them.
+   */
+  publishAllRetained(): void {
     const at = this.now()
     for (const [signal, indication] of Object.entries(this.engine.indications())) {
       this.deps.publish(signalTopic(this.slug, signal), signalPayload(indication, at), true)
     }
+    for (const [area, holder] of Object.entries(this.areas)) this.deps.publish(areaTopic(this.slug, area), areaPayload(holder !== null), true)
   }
 
   // ---- inputs from the hardware ----
@@ -116,9 +129,16 @@ export class LayoutRuntime {
     this.applyInput({ type: 'interpose', block, description, at, by: `decoder:${address}` }, null)
   }
 
+  /** The position a turnout reports: the only thing that moves it in the state (a throw request does not). */
   turnoutReport(turnout: string, position: 'normal' | 'reverse', at = this.now()): void {
-    if (this.engine.state().turnouts[turnout] === position) return
-    this.applyInput({ type: 'turnout', turnout, position, at }, null)
+    const request = this.requests.get(turnout)
+    if (this.engine.state().turnouts[turnout] === position) {
+      if (request?.position === position) this.requests.delete(turnout)
+      return
+    }
+    const credited = request && request.position === position && at - request.at <= REQUEST_CREDIT_MS
+    this.requests.delete(turnout)
+    this.applyInput({ type: 'turnout', turnout, position, at, ...(credited ? { by: String(request.userId) } : {}) }, null)
   }
 
   deviceStatus(device: string, online: boolean, at = this.now()): void {
@@ -231,8 +251,13 @@ export class LayoutRuntime {
     const unknown = late ?? this.unknownItem(command)
     const already = unknown ? null : this.alreadyDone(user, command)
     if (already) return { ok: true, note: already }
-    const reason = unknown ?? this.notAllowed(user, command) ?? this.staleRevision(command)
+    const reason = unknown ?? this.notAllowed(user, command) ?? this.staleRevision(command) ?? this.nothingToDo(command)
     if (reason) return { ok: false, reason }
+    const lockRefusal = this.locked(command)
+    if (lockRefusal) {
+      this.recordRefusal(user, command, lockRefusal)
+      return { ok: false, reason: lockRefusal }
+    }
     const at = this.now()
     const journal = { type: 'command', subject: 'area' in command ? command.area : null, payload: { ...command }, userId: user.id, at }
     const by = String(user.id)
@@ -258,11 +283,10 @@ export class LayoutRuntime {
       }
       case 'set-override':
         return this.applyCommand({ type: 'override', signal: command.signal, mode: command.mode, at, by }, user, { ...journal, subject: command.signal })
-      case 'set-turnout': {
-        const outcome = this.applyCommand({ type: 'turnout', turnout: command.turnout, position: command.position, at, by }, user, { ...journal, subject: command.turnout })
-        if (outcome.ok) this.deps.publish(turnoutSetTopic(this.slug, command.turnout), JSON.stringify({ position: command.position, by: user.name }), false)
-        return outcome
-      }
+      case 'set-turnout':
+        return this.requestThrow(user, command.turnout, command.position, null, { ...journal, subject: command.turnout })
+      case 'force-turnout':
+        return this.requestThrow(user, command.turnout, command.position, this.locks[command.turnout]!, { ...journal, subject: command.turnout })
       case 'interpose':
         return this.applyCommand({ type: 'interpose', block: command.block, description: command.description, at, by }, user, { ...journal, subject: command.block })
       case 'acknowledge':
@@ -309,7 +333,7 @@ export class LayoutRuntime {
         if (!this.area(command.area)) return missing('area', command.area)
         return this.offers[command.area] ? null : `Nobody is offering you ${this.names.area(command.area)} now (the offer may have lapsed).`
       case 'set-override': return command.signal in state.overrides ? null : missing('signal', command.signal)
-      case 'set-turnout': return command.turnout in state.turnouts ? null : missing('turnout', command.turnout)
+      case 'set-turnout': case 'force-turnout': return command.turnout in state.turnouts ? null : missing('turnout', command.turnout)
       case 'interpose': return command.block in state.occupied ? null : missing('block', command.block)
       case 'acknowledge': {
         const alarm = state.alarms.find(a => a.id === command.alarm)
@@ -335,6 +359,7 @@ export class LayoutRuntime {
       }
       case 'set-override': return reasonOf(signalVerdict(user, this.layout, this.areas, command.signal))
       case 'set-turnout': return reasonOf(turnoutVerdict(user, this.layout, this.areas, command.turnout))
+      case 'force-turnout': return reasonOf(forceTurnoutVerdict(user, this.layout, command.turnout))
       case 'interpose': return reasonOf(interposeVerdict(user, this.layout, this.areas, command.block))
       case 'acknowledge': return reasonOf(acknowledgeVerdict(user))
     }
@@ -349,19 +374,94 @@ export class LayoutRuntime {
       const current = state.signalRevisions[command.signal]!
       return command.revision === current ? null : changed(`Signal ${this.names.signal(command.signal)}`, current, command.revision)
     }
-    if (command.action === 'set-turnout') {
+    if (command.action === 'set-turnout' || command.action === 'force-turnout') {
       const current = state.turnoutRevisions[command.turnout]!
       return command.revision === current ? null : changed(`Turnout ${command.turnout}`, current, command.revision)
     }
     return null
   }
 
+  /** Asking for the position a turnout already reports would do nothing. */
+  private nothingToDo(command: LiveCommand): string | null {
+    if (command.action !== 'set-turnout' && command.action !== 'force-turnout') return null
+    return this.engine.state().turnouts[command.turnout] === command.position ? `${command.turnout} already lies ${command.position}.` : null
+  }
+
+  /**
+   * Interlocking: a throw of a locked turnout is refused with the lock's reason; a forced throw is refused
+   * when there is no lock to force.
+   */
+  private locked(command: LiveCommand): string | null {
+    if (command.action !== 'set-turnout' && command.action !== 'force-turnout') return null
+    const lock = this.locks[command.turnout]
+    if (command.action === 'force-turnout' && !lock) return `${command.turnout} is not locked: throw it the usual way.`
+    if (command.action === 'set-turnout' && lock) return lockReason(command.turnout, lock, this.engine.indications())
+    return null
+  }
+
+  /** A refused throw goes to the journal and the feed: everyone sees that a throw was asked for and why not. */
+  private recordRefusal(user: LiveUser, command: LiveCommand, reason: string): void {
+    const at = this.now()
+    const subject = 'turnout' in command ? command.turnout : null
+    const entry = this.pushFeed({ at, tone: 'warn', text: `${user.name}: ${commandWords(command)} refused. ${reason}` })
+    this.emit([{ type: 'feed', entry }], { type: 'command-refused', subject, payload: { ...command, reason }, userId: user.id, at })
+  }
+
+  /**
+   * Sends a throw request to the layout. The state does not change here: only the position the turnout then
+   * reports counts (docs/mqtt-topics.md). `forced` is the lock an admin chose to override.
+   */
+  private requestThrow(user: LiveUser, turnout: string, position: 'normal' | 'reverse', forced: TurnoutLockInfo | null, journal: JournalFields): CommandOutcome {
+    this.requests.set(turnout, { position, userId: user.id, at: journal.at })
+    this.deps.publish(turnoutSetTopic(this.slug, turnout), JSON.stringify({ position, by: user.name }), false)
+    const text = forced
+      ? `${user.name} forced ${turnout} to ${position} although ${lockReason(turnout, forced, this.engine.indications()).replace(`${turnout} is locked: `, '')}`
+      : `${user.name} asked for ${turnout} to be thrown ${position}`
+    const entry = this.pushFeed({ at: journal.at, tone: forced ? 'warn' : 'info', text })
+    this.emit([{ type: 'feed', entry }], forced ? { ...journal, payload: { ...journal.payload, forced: true, lock: forced } } : journal)
+    return { ok: true }
+  }
+
+  private lockInputs(): LockInputs {
+    const state = this.engine.state()
+    const indications = this.engine.indications()
+    return {
+      occupied: b => state.occupied[b] === true,
+      position: id => state.turnouts[id] ?? 'unknown',
+      aspect: id => indications[id]?.aspect ?? 'danger',
+    }
+  }
+
+  /** Lock changes the engine changes caused, applied to `locks`, as changes for the panels. */
+  private lockChanges(changes: Change[]): LiveChange[] {
+    const touched = turnoutsTouchedBy(this.layout, changes)
+    if (!touched.size) return []
+    const topo = topologyOf(this.layout)
+    const inputs = this.lockInputs()
+    const out: LiveChange[] = []
+    for (const turnout of touched) {
+      const now = lockOf(topo, turnout, inputs)
+      if (sameLock(now, this.locks[turnout] ?? null)) continue
+      const next = { ...this.locks }
+      if (now) next[turnout] = now
+      else delete next[turnout]
+      this.locks = next
+      out.push({ type: 'lock', turnout, lock: now })
+    }
+    return out
+  }
+
+  /** Locked turnouts and why, as the panels see them. */
+  turnoutLocks(): Record<string, TurnoutLockInfo> { return this.locks }
+
   private area(id: string): LayoutArea | undefined {
     return this.layout.areas.find(a => a.id === id)
   }
 
   private setHolder(area: string, holder: LiveUser | null, text: string, journal: JournalFields): CommandOutcome {
+    const wasHeld = this.areas[area] !== null
     this.areas = { ...this.areas, [area]: holder }
+    if (wasHeld !== (holder !== null)) this.deps.publish(areaTopic(this.slug, area), areaPayload(holder !== null), true)
     const offers = this.offersWithout((_, a) => a === area)
     this.emit([{ type: 'areas', areas: this.areas }, ...offers, ...this.attendanceChanges(), { type: 'feed', entry: this.pushFeed({ at: journal.at, tone: 'info', text }) }], journal)
     return { ok: true }
@@ -404,7 +504,7 @@ export class LayoutRuntime {
   private publishAndEmit(changes: Change[], journal: JournalFields, user: LiveUser | null): void {
     if (!changes.length) return
     const at = journal.at
-    const live: LiveChange[] = [...changes]
+    const live: LiveChange[] = [...changes, ...this.lockChanges(changes)]
     for (const change of changes) {
       if (change.type === 'indication') this.deps.publish(signalTopic(this.slug, change.signal), signalPayload(change.indication, at), true)
       const entry = describeChange(this.names, change, id => this.userName(id, user), at)
@@ -479,6 +579,7 @@ export class LayoutRuntime {
       state: {
         occupied: s.occupied, turnouts: s.turnouts, overrides: s.overrides, descriptions: s.descriptions, alarms: s.alarms,
         indications: this.engine.indications(), signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts: this.dropouts,
+        locks: this.locks,
       },
       areas: this.areas, unattended: this.unattended, offers: this.offers,
       operators: this.operators(), devices: this.devices, session: this.session, feed: this.feed,
@@ -497,6 +598,14 @@ export class LayoutRuntime {
   }
 }
 
+const sameLock = (a: TurnoutLock, b: TurnoutLock) => JSON.stringify(a) === JSON.stringify(b)
+
+function commandWords(command: LiveCommand): string {
+  if (command.action === 'set-turnout') return `throw of ${command.turnout} to ${command.position}`
+  if (command.action === 'force-turnout') return `forced throw of ${command.turnout} to ${command.position}`
+  return command.action
+}
+
 interface JournalFields { type: string, subject: string | null, payload: Record<string, unknown>, userId: number | null, at: number }
 
 function subjectOf(change: Change): string | null {
@@ -505,7 +614,7 @@ function subjectOf(change: Change): string | null {
     case 'block': case 'description': case 'speed': return change.block
     case 'indication': case 'override': return change.signal
     case 'turnout': return change.turnout
-    case 'alarm': case 'alarm-acknowledged': return change.alarm.signal
+    case 'alarm': case 'alarm-acknowledged': return change.alarm.kind === 'spad' ? change.alarm.signal : change.alarm.turnout
     default: return null
   }
 }

@@ -186,7 +186,7 @@ export class LiveService {
     if (!row || row.archivedAt || this.runtimes.has(row.slug)) return
     const runtime = await this.startRuntime(row)
     if (!runtime) return
-    runtime.publishAllIndications()
+    runtime.publishAllRetained()
     log(`layout ${row.slug} is live`)
   }
 
@@ -208,7 +208,7 @@ export class LiveService {
     this.runtimes.set(row.slug, runtime)
     this.hub.broadcast(row.slug, runtime.snapshot())
     for (const { user, count } of old.connectedOperators()) for (let i = 0; i < count; i++) runtime.connect(user)
-    runtime.publishAllIndications()
+    runtime.publishAllRetained()
     log(`layout ${row.slug} reloaded at version ${row.version}`)
   }
 
@@ -250,7 +250,7 @@ export class LiveService {
       log(`MQTT bridge connected to ${url}`)
       client.subscribe(INPUT_FILTERS, { qos: 1 })
       // A broker that restarted may have lost the retained indications: publish them all again.
-      for (const runtime of this.runtimes.values()) runtime.publishAllIndications()
+      for (const runtime of this.runtimes.values()) runtime.publishAllRetained()
     })
     client.on('error', error => log(`MQTT bridge: ${error.message}`))
     client.on('offline', () => log('MQTT bridge offline; reconnecting'))

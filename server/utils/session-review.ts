@@ -53,7 +53,7 @@ export async function sessionSummary(sessionId: number, layout: Layout, startedA
     FROM events WHERE session_id = :sessionId AND type = 'description' AND payload->>'description' IS NOT NULL
     GROUP BY 1 ORDER BY min(at)`)
 
-  const alarms = await q<{ payload: JournalPayload }>(`SELECT payload FROM events WHERE session_id = :sessionId AND type = 'alarm' ORDER BY id`)
+  const alarms = await q<{ payload: JournalPayload }>(`SELECT payload FROM events WHERE session_id = :sessionId AND type = 'alarm' AND coalesce(payload#>>'{alarm,kind}', 'spad') = 'spad' ORDER BY id`)
   const acks = await q<{ payload: JournalPayload, user_id: number | null }>(`SELECT payload, user_id FROM events WHERE session_id = :sessionId AND type = 'alarm-acknowledged' ORDER BY id`)
   const ackOf = new Map(acks.map(a => [String(a.payload.alarm?.id), a]))
   const dangerPasses = alarms.map(({ payload }) => {
@@ -223,7 +223,7 @@ export async function sessionGraph(sessionId: number, layout: Layout, routeIds: 
     { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
   const alarms = await db.sequelize.query<{ at: string, block: string, signal: string, description: string | null }>(
     `SELECT payload#>>'{alarm,at}' AS at, payload#>>'{alarm,block}' AS block, payload#>>'{alarm,signal}' AS signal, payload#>>'{alarm,description}' AS description
-     FROM events WHERE session_id = :sessionId AND type = 'alarm' AND payload#>>'{alarm,block}' IN (:route) ORDER BY id`,
+     FROM events WHERE session_id = :sessionId AND type = 'alarm' AND coalesce(payload#>>'{alarm,kind}', 'spad') = 'spad' AND payload#>>'{alarm,block}' IN (:route) ORDER BY id`,
     { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
   return buildTimeDistance(
     routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })),

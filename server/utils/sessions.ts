@@ -34,7 +34,7 @@ const SESSION_FROM = `FROM operating_sessions s JOIN layouts l ON l.id = s.layou
 // The list's figures are counted from the session's own events (partial indexes on session_id and type).
 const SESSION_COUNTS = `
     (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'description' AND e.payload->>'reason' = 'step') AS train_moves,
-    (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'alarm') AS spads,
+    (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'alarm' AND coalesce(e.payload#>>'{alarm,kind}', 'spad') = 'spad') AS spads,
     (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'dropout') AS dropouts,
     (SELECT array_agg(DISTINCT u.name ORDER BY u.name) FROM events e JOIN users u ON u.id = e.user_id
       WHERE e.session_id = s.id AND e.type = 'command') AS operators`

@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from '../schemas/zod'
 import { LayoutDefinition } from '#shared/schemas/layout'
 
 /**

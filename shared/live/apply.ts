@@ -33,7 +33,7 @@ export const FEED_LIMIT = 50
 function emptyState(): LiveState {
   return {
     occupied: {}, turnouts: {}, overrides: {}, descriptions: {}, alarms: [], indications: {},
-    signalRevisions: {}, turnoutRevisions: {}, dropouts: {},
+    signalRevisions: {}, turnoutRevisions: {}, dropouts: {}, locks: {},
   }
 }
 
@@ -107,6 +107,10 @@ function applyChange(view: PanelView, change: LiveChange): void {
       upsertAlarm(s, change.alarm)
       break
     case 'dropout': s.dropouts[change.block] = change.at; break
+    case 'lock':
+      if (change.lock) s.locks[change.turnout] = { ...change.lock }
+      else delete s.locks[change.turnout]
+      break
     case 'areas': view.areas = structuredClone(change.areas); break
     case 'unattended': view.unattended = { ...change.areas }; break
     case 'offers': view.offers = structuredClone(change.offers); break

@@ -26,6 +26,12 @@ export const NO_WORD = 'No word from the server: the command was not sent, as th
 /** Taps on the same item within this time count once (a double tap, a shaky finger). */
 export const REPEAT_TAP_MS = 600
 
+/** How long the panel waits for a thrown turnout to report its new position before it says none came. */
+export const THROW_REPORT_MS = 5_000
+
+/** A throw the panel asked for, until the turnout reports the position asked for. */
+export interface ThrowRequest { commandId: string, position: 'normal' | 'reverse', at: number, late: boolean }
+
 let counter = 0
 
 /** A client id for a command: unique within this page, at most 40 characters (the protocol's limit). */
@@ -39,7 +45,7 @@ export function commandTarget(c: LiveCommand): string {
     case 'take-area': case 'release-area': case 'force-release': case 'hand-over':
     case 'accept-hand-over': case 'decline-hand-over': return `area:${c.area}`
     case 'set-override': return `signal:${c.signal}`
-    case 'set-turnout': return `turnout:${c.turnout}`
+    case 'set-turnout': case 'force-turnout': return `turnout:${c.turnout}`
     case 'interpose': return `block:${c.block}`
     case 'acknowledge': return `alarm:${c.alarm}`
   }
@@ -57,6 +63,7 @@ export function commandLabel(c: LiveCommand, def: Layout | null, people: { id: n
     case 'decline-hand-over': return `Decline ${nameOf(def?.areas, c.area)}`
     case 'set-override': return `${{ hold: 'Hold', auto: 'Auto', clear: 'Clear' }[c.mode]} ${nameOf(def?.signals, c.signal)}`
     case 'set-turnout': return `Throw ${c.turnout} to ${c.position}`
+    case 'force-turnout': return `Force ${c.turnout} to ${c.position}`
     case 'interpose': return c.description ? `Interpose ${c.description} in ${nameOf(def?.blocks, c.block)}` : `Clear the berth in ${nameOf(def?.blocks, c.block)}`
     case 'acknowledge': return 'Acknowledge the alarm'
   }

@@ -1,9 +1,10 @@
-import { z } from 'zod'
+import { z } from '../schemas/zod'
 import { ItemId } from '../schemas/layout'
 import type { Layout } from '../schemas/layout'
 import type { Alarm, Change, Indication, OverrideMode, TurnoutPosition } from '../signalling'
 import type { Role } from '../utils/roles'
 import { OVERRIDE_MODES, TURNOUT_LEGS } from '../signalling/values'
+import type { TurnoutLockInfo } from './locking'
 
 /**
  * Blockbell's live protocol between a panel and the server, over one WebSocket at `/live`.
@@ -39,9 +40,11 @@ export const LiveCommand = z.discriminatedUnion('action', [
   z.object({ action: z.literal('decline-hand-over'), area: ItemId }),
   z.object({ action: z.literal('set-override'), signal: ItemId, mode: z.enum(OVERRIDE_MODES), revision: Revision }),
   z.object({ action: z.literal('set-turnout'), turnout: ItemId, position: z.enum(TURNOUT_LEGS), revision: Revision }),
+  /** An admin's throw of a locked turnout, after the panel asked them to confirm it. */
+  z.object({ action: z.literal('force-turnout'), turnout: ItemId, position: z.enum(TURNOUT_LEGS), revision: Revision }),
   z.object({ action: z.literal('interpose'), block: ItemId, description: z.string().trim().max(16, 'a description is at most 16 characters') }),
   z.object({ action: z.literal('acknowledge'), alarm: z.string().min(1).max(40) }),
-], { error: 'action is one of take-area, release-area, force-release, hand-over, accept-hand-over, decline-hand-over, set-override, set-turnout, interpose, acknowledge' })
+], { error: 'action is one of take-area, release-area, force-release, hand-over, accept-hand-over, decline-hand-over, set-override, set-turnout, force-turnout, interpose, acknowledge' })
 export type LiveCommand = z.infer<typeof LiveCommand>
 
 export const ClientMessage = z.discriminatedUnion('type', [
@@ -94,6 +97,8 @@ export type LiveChange =
   | { type: 'dropout', block: string, detector: string, at: number }
   | { type: 'feed', entry: FeedEntry }
   | { type: 'session', session: LiveSession | null }
+  /** A turnout's lock came on, changed or came off (null). */
+  | { type: 'lock', turnout: string, lock: TurnoutLockInfo | null }
 
 export interface LiveState {
   occupied: Record<string, boolean>
@@ -106,6 +111,8 @@ export interface LiveState {
   turnoutRevisions: Record<string, number>
   /** Block -> epoch ms of the last detector dropout (a clear followed by occupied within the debounce). */
   dropouts: Record<string, number>
+  /** Locked turnouts only: why each may not be thrown now (shared/signalling/locking.ts). */
+  locks: Record<string, TurnoutLockInfo>
 }
 
 export type ServerMessage =

@@ -97,6 +97,14 @@ export function handOverTargetVerdict(user: PanelUser, area: LayoutArea, to: Liv
   return { allowed: true, area, reason: null }
 }
 
+/** Only an admin may force a throw of a locked turnout (in any area, held or not, as with force-release). */
+export function forceTurnoutVerdict(user: PanelUser | null, def: Layout, turnout: string): Verdict {
+  const area = areaOfTurnout(def, turnout)
+  if (!user || !roleAtLeast(user.role, 'signaller')) return { allowed: false, area, reason: VIEWER_REASON }
+  if (!roleAtLeast(user.role, 'admin')) return { allowed: false, area, reason: 'Only an admin can force a throw of a locked turnout.' }
+  return { allowed: true, area, reason: null }
+}
+
 export function acknowledgeVerdict(user: PanelUser | null): Verdict {
   return user && roleAtLeast(user.role, 'signaller') ? { allowed: true, area: null, reason: null } : { allowed: false, area: null, reason: VIEWER_REASON }
 }

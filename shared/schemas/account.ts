@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 import { ROLES } from '../utils/roles'
 
 // Request bodies shared by the forms and the API routes.

@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 
 const Name = z.string({ error: 'name: a layout name is required' }).trim().min(1, 'a layout name is required').max(120, 'a layout name is at most 120 characters')
 const Version = z.number({ error: 'a version number is required' }).int('a version is a whole number').positive('a version is a positive number')

@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 import { END_OF_LINE, SIGNAL_KINDS, TURNOUT_LEGS } from '../signalling/values'
 
 /**

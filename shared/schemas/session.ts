@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 
 /** Fast-clock ratio: model minutes per real minute (4 means 4:1). */
 export const FAST_CLOCK_MAX = 60

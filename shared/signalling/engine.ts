@@ -1,5 +1,6 @@
 import type { Layout, LayoutSignal } from '../schemas/layout'
 import { IndicationReader, computeIndications, sameIndication } from './aspects'
+import { lockOf } from './locking'
 import { scaleSpeed } from './scale'
 import { isLeg, legOf, own, placeKey, topologyOf, type Topology } from './topology'
 import type {
@@ -260,10 +261,28 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       const t = topo.turnoutById.get(event.turnout)
       if (!t) return [unknown('turnout', `unknown turnout "${event.turnout}"`)]
       if (base.turnouts[t.id] === event.position) return []
+      // judged on the state just before the move: the move itself is a fact and is applied all the same. A first
+      // report (from unknown) is not a move: it says where the turnout lies, as after a start-up.
+      const lock = base.turnouts[t.id] === 'unknown' ? null : lockOf(topo, t.id, {
+        occupied: b => base.occupied[b] === true,
+        position: id => base.turnouts[id] ?? 'unknown',
+        aspect: id => draft.before(topo.signalById.get(id)!).aspect,
+      })
       draft.map('turnouts')[t.id] = event.position
       const revision = (base.turnoutRevisions[t.id] ?? 0) + 1
       draft.map('turnoutRevisions')[t.id] = revision
       changes.push({ type: 'turnout', turnout: t.id, position: event.position, revision, at, ...byOf(event) })
+      if (lock) {
+        const n = base.alarmCount + 1
+        const description = own(base.descriptions, t.block) ? base.descriptions[t.block]! : null
+        const alarm: Alarm = {
+          id: `lock-${n}`, kind: 'turnout-under-lock', turnout: t.id, block: t.block,
+          signal: lock.reason === 'route' ? lock.signal : null, description, at, acknowledgedAt: null,
+        }
+        draft.next.alarmCount = n
+        draft.alarms().push(alarm)
+        changes.push({ type: 'alarm', alarm })
+      }
       refresh(topo, draft, topo.signalsByTurnout.get(t.id) ?? [], changes)
       break
     }

@@ -16,20 +16,33 @@ export interface Indication {
   exceedsLine: boolean
 }
 
-/** A signal passed at danger. Kept after acknowledgement with `acknowledgedAt` set. */
-export interface Alarm {
+interface AlarmBase {
   id: string
-  kind: 'spad'
-  signal: string
-  /** The block the train entered past the signal. */
+  /** The block the train entered past the signal, or the block of the turnout that moved under a lock. */
   block: string
-  /** Train description of the train, if it had one. */
+  /** Train description of the train in that block, if it had one. */
   description: string | null
-  /** Epoch milliseconds of the detector event. */
+  /** Epoch milliseconds of the event that raised it. */
   at: number
   acknowledgedAt: number | null
   acknowledgedBy?: string
 }
+
+/** A signal passed at danger. Kept after acknowledgement with `acknowledgedAt` set. */
+export interface SpadAlarm extends AlarmBase {
+  kind: 'spad'
+  signal: string
+}
+
+/** A turnout reported a move while it was locked (its block occupied, or a signal reading over it off). */
+export interface TurnoutLockAlarm extends AlarmBase {
+  kind: 'turnout-under-lock'
+  turnout: string
+  /** The signal whose route locked it, or null for a track lock (its block occupied). */
+  signal: string | null
+}
+
+export type Alarm = SpadAlarm | TurnoutLockAlarm
 
 /**
  * The whole live state of one layout. Plain JSON data: it can be stored, sent and compared.

@@ -94,7 +94,7 @@ describe('turnouts', () => {
     const ctx = await goLive(held({ main: TAM }))
     server = ctx.server
     const w = await mountSuspended(PanelTurnoutSheet, { props: { turnout: 'T4' } })
-    expect(w.find('[data-test="throw"]').exists()).toBe(false)
+    expect(w.find('[data-test="turnout-controls"]').exists()).toBe(false)
     expect(w.find('[data-test="no-control-reason"]').text()).toContain('Tam Oakridge holds Main line')
   })
 })

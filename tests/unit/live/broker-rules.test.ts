@@ -41,9 +41,9 @@ describe('device permissions', () => {
   const everyLayout: BrokerIdentity = { kind: 'device', username: 'fake-layout', layout: null }
   const P = 'blockbell/v1/wrenfold/'
 
-  it('lets a device subscribe to its layout\'s indications and turnout requests only', () => {
-    for (const ok of [`${P}signal/+`, `${P}signal/SU1`, `${P}turnout/+/set`, `${P}turnout/T1/set`]) expect(deviceSubscribeAllowed(ok, board), ok).toBe(true)
-    for (const no of ['#', '$SYS/#', 'blockbell/#', `${P}#`, `${P}detector/+`, `${P}device/+/status`, `${P}turnout/+`, 'blockbell/v1/+/signal/+', 'blockbell/v1/marrow/signal/+', `${P}signal/#`, `${P}signal/+/x`]) {
+  it('lets a device subscribe to its layout\'s indications, turnout requests and held areas only', () => {
+    for (const ok of [`${P}signal/+`, `${P}signal/SU1`, `${P}turnout/+/set`, `${P}turnout/T1/set`, `${P}area/+`, `${P}area/main`]) expect(deviceSubscribeAllowed(ok, board), ok).toBe(true)
+    for (const no of ['#', '$SYS/#', 'blockbell/#', `${P}#`, `${P}detector/+`, `${P}device/+/status`, `${P}turnout/+`, 'blockbell/v1/+/signal/+', 'blockbell/v1/marrow/signal/+', `${P}signal/#`, `${P}signal/+/x`, `${P}area/#`, `${P}area/main/x`]) {
       expect(deviceSubscribeAllowed(no, board), no).toBe(false)
     }
     expect(deviceSubscribeAllowed('blockbell/v1/+/signal/+', everyLayout)).toBe(true)
