@@ -1,5 +1,6 @@
 import * as initial from './0001-initial'
 import * as devicesAndEventKeys from './0002-devices-and-event-keys'
+import * as mailInvitationsResets from './0005-mail-invitations-resets'
 
 /**
  * Every migration, in order. Listed by hand (not globbed) so the same list works under tsx and inside the
@@ -8,4 +9,5 @@ import * as devicesAndEventKeys from './0002-devices-and-event-keys'
 export const migrations = [
   { name: '0001-initial', ...initial },
   { name: '0002-devices-and-event-keys', ...devicesAndEventKeys },
+  { name: '0005-mail-invitations-resets', ...mailInvitationsResets },
 ]
