@@ -107,9 +107,10 @@ export async function startFakeSmtp(options: FakeSmtpOptions): Promise<FakeSmtp>
     server.listen(options.port, '127.0.0.1', () => { server.off('error', fail); done() })
   })
   server.on('error', error => log(`error: ${error.message}`))
+  let closing: Promise<void> | undefined
   return {
     port: (server.server.address() as AddressInfo).port,
     refusals: () => refused,
-    close: () => new Promise(done => server.close(() => done())),
+    close: () => (closing ??= new Promise(done => server.close(() => done()))),
   }
 }
