@@ -24,6 +24,15 @@ const ROUTES: RouteCase[] = [
   { file: 'devices/index.post.ts', method: 'POST', path: '/api/devices', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
   { file: 'devices/[id].patch.ts', method: 'PATCH', path: '/api/devices/999999', body: { disabled: true }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
   { file: 'layouts/index.get.ts', method: 'GET', path: '/api/layouts', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'auth/forgot.post.ts', method: 'POST', path: '/api/auth/forgot', body: {}, expect: { anonymous: 400, viewer: 400, signaller: 400, admin: 400 } },
+  { file: 'auth/reset.post.ts', method: 'POST', path: '/api/auth/reset', body: {}, expect: { anonymous: 400, viewer: 400, signaller: 400, admin: 400 } },
+  { file: 'invitations/index.get.ts', method: 'GET', path: '/api/invitations', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
+  { file: 'invitations/index.post.ts', method: 'POST', path: '/api/invitations', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'invitations/[id].delete.ts', method: 'DELETE', path: '/api/invitations/999999', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'invitations/check.post.ts', method: 'POST', path: '/api/invitations/check', body: {}, expect: { anonymous: 400, viewer: 400, signaller: 400, admin: 400 } },
+  { file: 'invitations/accept.post.ts', method: 'POST', path: '/api/invitations/accept', body: {}, expect: { anonymous: 400, viewer: 400, signaller: 400, admin: 400 } },
+  { file: 'outbox/index.get.ts', method: 'GET', path: '/api/outbox', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
+  { file: 'outbox/[id]/retry.post.ts', method: 'POST', path: '/api/outbox/999999/retry', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
   { file: 'layouts/[id].get.ts', method: 'GET', path: '/api/layouts/999999', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
 ]
 
