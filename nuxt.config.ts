@@ -7,7 +7,7 @@ export default defineNuxtConfig({
   dir: { app: 'app' },
   devtools: { enabled: false },
   telemetry: false,
-  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils'],
+  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint'],
   css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],
   app: {
     head: {
@@ -25,4 +25,6 @@ export default defineNuxtConfig({
   auth: { hash: { scrypt: SCRYPT_OPTIONS } },
   nitro: { experimental: { websocket: true } },
   typescript: { strict: true },
+  // Lint and format in one: @nuxt/eslint's stylistic rules (no Prettier).
+  eslint: { config: { stylistic: { quotes: 'single', semi: false, commaDangle: 'always-multiline', braceStyle: '1tbs' } } },
 })

@@ -10,7 +10,7 @@ const sharedAlias = { '#shared': fileURLToPath(new URL('./shared', import.meta.u
 export default defineConfig({
   test: {
     projects: [
-      { resolve: { alias: sharedAlias }, test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node' } },
+      { resolve: { alias: sharedAlias }, test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node', testTimeout: 20_000 } },
       { resolve: { alias: sharedAlias }, test: { name: 'db', include: ['tests/db/**/*.test.ts'], environment: 'node', testTimeout: 30_000, hookTimeout: 60_000, fileParallelism: false } },
       {
         resolve: { alias: sharedAlias },

@@ -7,6 +7,7 @@ import { parseOptions, USAGE, type FakeOptions } from './options'
 import type { StepResult } from './output'
 import { ScriptPlayer } from './script'
 import { Simulation } from './simulation'
+import { HARDWARE_FILTERS, layoutPrefix, layoutTopic, relative, signalOf, turnoutSetOf } from '#shared/live/topics'
 
 /**
  * The fake layout process: connects to the MQTT broker as the device `fake-layout` and runs either the train
@@ -65,9 +66,8 @@ function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log): Mode {
       for (const p of sim.snapshot()) send(p)
     },
     onMessage(topic, payload) {
-      const sig = /^signal\/([^/]+)$/.exec(topic)
-      if (sig) {
-        const id = sig[1]!
+      const id = signalOf(topic)
+      if (id) {
         if (payload === '') delete aspects[id]
         else {
           const aspect = parseIndication(payload)
@@ -120,15 +120,14 @@ function scripted(o: FakeOptions, layout: Layout, send: Send, log: Log, shutdown
     },
     resend() {},
     onMessage(topic, payload) {
-      const set = /^turnout\/([^/]+)\/set$/.exec(topic)
-      if (!set) return
+      const id = turnoutSetOf(topic)
+      if (!id) return
       const req = parseTurnoutRequest(payload)
-      const id = set[1]!
       if (!req || !turnouts.has(id)) {
         log(`ignoring request on ${topic}: ${payload.slice(0, 80)}`)
         return
       }
-      send({ topic: `turnout/${id}`, payload: req.position, retain: true })
+      send({ topic: relative.turnout(id), payload: req.position, retain: true })
       log(`${id} thrown ${req.position} on request${req.by ? ` by ${req.by}` : ''}`)
     },
     stop() {
@@ -151,8 +150,8 @@ function main(): void {
   const o = parsed.options
   const t0 = performance.now()
   const log: Log = (text) => console.log(`[fake-layout ${((performance.now() - t0) / 1000).toFixed(2).padStart(8)} s] ${text}`)
-  const prefix = `blockbell/v1/${o.slug}/`
-  const statusTopic = `${prefix}device/${DEVICE}/status`
+  const prefix = layoutPrefix(o.slug)
+  const statusTopic = layoutTopic(o.slug, relative.deviceStatus(DEVICE))
 
   const client = mqtt.connect(o.mqttUrl, {
     clientId: `${DEVICE}-${o.slug}-${process.pid}`,
@@ -194,7 +193,7 @@ function main(): void {
   let connected = false
   client.on('connect', () => {
     client.publish(statusTopic, 'online', { qos: 1, retain: true })
-    client.subscribe([`${prefix}signal/+`, `${prefix}turnout/+/set`], { qos: 1 })
+    client.subscribe(HARDWARE_FILTERS(o.slug), { qos: 1 })
     if (!connected) {
       connected = true
       log(`connected to ${o.mqttUrl} as ${o.username}; ${DEVICE} online`)

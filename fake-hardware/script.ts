@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import type { Layout } from '#shared/schemas/layout'
+import { isRetainedInput, TOPIC_ROOT } from '#shared/live/topics'
 
 /**
  * Scripted mode: a JSON file of timed publishes, sent in file order.
@@ -20,7 +21,7 @@ const RelativeTopic = z
   .max(200)
   .refine((t) => !t.startsWith('/') && !t.endsWith('/') && !t.includes('//'), 'a topic has no empty levels')
   .refine((t) => !/[+#\0]/.test(t), 'a topic has no wildcards (+, #)')
-  .refine((t) => !t.startsWith('blockbell/'), 'write the topic relative to blockbell/v1/<layout>/, e.g. detector/D01')
+  .refine((t) => !t.startsWith(`${TOPIC_ROOT}/`), 'write the topic relative to blockbell/v1/<layout>/, e.g. detector/D01')
 
 export const ScriptEvent = z.object({
   afterMs: z.number().nonnegative().max(24 * 3600_000),
@@ -54,7 +55,6 @@ export interface Scheduled {
 
 export type ParseResult = { ok: true, events: Scheduled[] } | { ok: false, errors: string[] }
 
-const retainedByDefault = (topic: string) => /^turnout\/[^/]+$/.test(topic) || topic.startsWith('device/')
 
 /** Validates a parsed JSON script and turns it into the publishes to make, in order. */
 export function parseScript(json: unknown, speedFactor = 1): ParseResult {
@@ -66,7 +66,7 @@ export function parseScript(json: unknown, speedFactor = 1): ParseResult {
       dueMs: e.afterMs / speedFactor,
       topic: e.topic,
       payload: typeof e.payload === 'string' ? e.payload : JSON.stringify(e.payload),
-      retain: e.retain ?? retainedByDefault(e.topic),
+      retain: e.retain ?? isRetainedInput(e.topic),
       note: e.note ?? null,
     })),
   }

@@ -4,6 +4,7 @@ import { needsThrough, placeKey, topologyOf, type Topology, type TurnoutNeed } f
 import { Output, type StepResult } from './output'
 import type { RouteStep, TrainPlan } from './plan'
 import { createRandom, type Random } from './random'
+import { relative } from '#shared/live/topics'
 
 /**
  * The fake layout's trains: a pure simulation. No clock, no timers, no MQTT: `step(dtMs, aspects)` moves
@@ -179,9 +180,9 @@ export class Simulation {
   /** Current state of every turnout and detector as publishes (e.g. to resend after reconnecting). */
   snapshot(): StepResult['publishes'] {
     const out = new Output()
-    for (const [id, pos] of this.positions) out.publish(this.now, `turnout/${id}`, pos, true)
+    for (const [id, pos] of this.positions) out.publish(this.now, relative.turnout(id), pos, true)
     for (const b of this.layout.blocks) {
-      for (const d of b.detectors) out.publish(this.now, `detector/${d}`, this.owner.has(b.id) ? '1' : '0')
+      for (const d of b.detectors) out.publish(this.now, relative.detector(d), this.owner.has(b.id) ? '1' : '0')
     }
     return out.publishes
   }
@@ -213,7 +214,7 @@ export class Simulation {
       this.operatorAt.set(id, this.now)
       this.positions.set(id, position)
       const under = this.owner.get(t.block)
-      out.publish(this.now, `turnout/${id}`, position, true)
+      out.publish(this.now, relative.turnout(id), position, true)
       out.say(this.now, `${id} thrown ${position} on request${by ? ` by ${by}` : ''}${under ? ` (under ${under.plan.headcode})` : ''}`)
     }
     return out
@@ -383,7 +384,7 @@ export class Simulation {
       const under = this.owner.get(need.turnout.block)
       if (under && !(under === t && k === t.index && need.facing)) return
       this.positions.set(id, want)
-      out.publish(this.now, `turnout/${id}`, want, true)
+      out.publish(this.now, relative.turnout(id), want, true)
       out.say(this.now, `${id} set ${want} for ${t.plan.headcode}`)
     }
     this.claimedBy.set(id, t)
@@ -448,7 +449,7 @@ export class Simulation {
   }
 
   private report(block: string, payload: '0' | '1', out: Output): void {
-    for (const d of this.topo.blockById.get(block)!.detectors) out.publish(this.now, `detector/${d}`, payload)
+    for (const d of this.topo.blockById.get(block)!.detectors) out.publish(this.now, relative.detector(d), payload)
   }
 
   private maybeDropout(t: Train, block: string): void {
@@ -466,7 +467,7 @@ export class Simulation {
       if (d.restoreAt === null) {
         if (this.now < d.at) keep.push(d)
         else if (still) {
-          out.publish(this.now, `detector/${d.detector}`, '0')
+          out.publish(this.now, relative.detector(d.detector), '0')
           out.say(this.now, `dirty track: ${d.detector}=0 in ${d.block} under ${d.train.plan.headcode}`)
           d.restoreAt = this.now + this.rng.between(30, 90)
           keep.push(d)
@@ -474,7 +475,7 @@ export class Simulation {
       }
       else if (this.now < d.restoreAt) keep.push(d)
       else if (still) {
-        out.publish(this.now, `detector/${d.detector}`, '1')
+        out.publish(this.now, relative.detector(d.detector), '1')
         out.say(this.now, `dirty track: ${d.detector}=1 again`)
       }
     }

@@ -1,4 +1,4 @@
-import { applyDelta, applySnapshot, emptyView } from '#shared/live/apply'
+import { emptyView } from '#shared/live/apply'
 import {
   COMMAND_TIMEOUT_MS, NOT_CONNECTED, NO_ANSWER_LOST, NO_ANSWER_TIMEOUT, commandLabel, commandTarget, newCommandId,
   type CommandRecord,
@@ -44,11 +44,9 @@ export const useLiveStore = defineStore('live', () => {
     else for (const c of commands.value) if (c.status === 'pending') settle(c.id, 'no-answer', NO_ANSWER_LOST)
   }
 
-  /** Handles one server message (the connection passes everything but snapshot and delta here). */
+  /** Handles one server message: everything but snapshot and delta, which the connection applies to the view. */
   function receive(msg: ServerMessage) {
-    if (msg.type === 'snapshot') applySnapshot(view, msg)
-    else if (msg.type === 'delta') applyDelta(view, msg)
-    else if (msg.type === 'welcome') me.value = msg.user
+    if (msg.type === 'welcome') me.value = msg.user
     else if (msg.type === 'command-result') settle(msg.id, msg.ok ? 'done' : 'refused', msg.ok ? null : msg.reason)
     else if (msg.type === 'error') serverError.value = msg.message
   }

@@ -1,5 +1,6 @@
 import { createServer, type Server } from 'node:net'
 import { Aedes, type Client } from 'aedes'
+import { parseInputTopic } from '#shared/live/topics'
 
 export interface BrokerOptions {
   host: string
@@ -20,11 +21,7 @@ const kinds = new WeakMap<Client, Kind>()
 
 /** Devices may report detectors, turnouts and their status; only Blockbell itself sets signals and throws turnouts. */
 export function devicePublishAllowed(topic: string): boolean {
-  const parts = topic.split('/')
-  if (parts[0] !== 'blockbell' || parts[1] !== 'v1') return false
-  return (parts[3] === 'detector' && parts.length === 5)
-    || (parts[3] === 'turnout' && parts.length === 5)
-    || (parts[3] === 'device' && parts[5] === 'status' && parts.length === 6)
+  return parseInputTopic(topic) !== null
 }
 
 /** Starts the embedded MQTT broker (aedes) on the loopback interface, with device sign-in. */

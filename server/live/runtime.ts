@@ -1,11 +1,10 @@
-import type { Layout } from '#shared/schemas/layout'
+import type { Layout, LayoutArea } from '#shared/schemas/layout'
 import { createEngine, type Change, type Engine, type LayoutEvent, type LayoutState } from '#shared/signalling'
 import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveCommand, LiveSession, LiveUser, ServerMessage } from '#shared/live/protocol'
 import { describeChange, namesOf, type LayoutNames } from '#shared/live/feed'
-import { roleAtLeast } from '#shared/utils/roles'
-import { indexAreas, mayInterpose, mayOperate, type AreaIndex, type Verdict } from './areas'
+import { acknowledgeVerdict, areaVerdict, handOverTargetVerdict, interposeVerdict, signalVerdict, turnoutVerdict, type Verdict } from '#shared/live/rights'
 import { DetectorDebounce } from './detector-debounce'
-import { signalPayload, signalTopic, turnoutSetTopic } from './topics'
+import { signalPayload, signalTopic, turnoutSetTopic } from '#shared/live/topics'
 
 export interface JournalSink {
   append(entry: { layoutId: number, sessionId: number | null, at: number, type: string, subject: string | null, payload: Record<string, unknown>, userId: number | null }): void
@@ -27,6 +26,9 @@ export interface RuntimeDeps {
 
 const FEED_LENGTH = 30
 
+/** What became of an operator's command: carried out, or refused with a reason the operator reads. */
+export type CommandOutcome = { ok: true } | { ok: false, reason: string }
+
 /**
  * The single writer of one layout's live state. Every input — a detector, a turnout report, an operator's
  * command — goes through `engine.apply` in arrival order; the changes then go to MQTT (signal indications,
@@ -37,7 +39,6 @@ export class LayoutRuntime {
   readonly layout: Layout
   private readonly engine: Engine
   private readonly debounce: DetectorDebounce
-  private readonly areaIndex: AreaIndex
   private readonly names: LayoutNames
   private readonly detectorBlock: Map<string, string>
   private readonly now: () => number
@@ -49,14 +50,12 @@ export class LayoutRuntime {
   private dropouts: Record<string, number> = {}
   private feed: FeedEntry[] = []
   private session: LiveSession | null
-  readonly counters = { rejectedInputs: 0, refusedCommands: 0, events: 0 }
 
   constructor(private readonly deps: RuntimeDeps) {
     this.slug = deps.slug
     this.layout = deps.layout
     this.now = deps.now ?? Date.now
     this.engine = createEngine(deps.layout, deps.state)
-    this.areaIndex = indexAreas(deps.layout)
     this.names = namesOf(deps.layout)
     this.detectorBlock = new Map(deps.layout.blocks.flatMap(b => b.detectors.map(d => [d, b.id] as [string, string])))
     this.areas = Object.fromEntries(deps.layout.areas.map(a => [a.id, deps.areas?.[a.id] ?? null]))
@@ -94,7 +93,6 @@ export class LayoutRuntime {
   }
 
   rejectInput(where: string, reason: string): void {
-    this.counters.rejectedInputs++
     this.deps.journal.append({ layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null, at: this.now(), type: 'input-rejected', subject: where.slice(0, 64), payload: { reason }, userId: null })
   }
 
@@ -120,9 +118,9 @@ export class LayoutRuntime {
   }
 
   /** Checks and carries out one command; the reason is shown to the operator when refused. */
-  command(user: LiveUser, command: LiveCommand): Verdict {
-    const verdict = this.check(user, command)
-    if (!verdict.ok) { this.counters.refusedCommands++; return verdict }
+  command(user: LiveUser, command: LiveCommand): CommandOutcome {
+    const reason = this.unknownItem(command) ?? this.notAllowed(user, command) ?? this.staleRevision(command)
+    if (reason) return { ok: false, reason }
     const at = this.now()
     const journal = { type: 'command', subject: 'area' in command ? command.area : null, payload: { ...command }, userId: user.id, at }
     const by = String(user.id)
@@ -137,9 +135,9 @@ export class LayoutRuntime {
       case 'set-override':
         return this.applyCommand({ type: 'override', signal: command.signal, mode: command.mode, at, by }, user, { ...journal, subject: command.signal })
       case 'set-turnout': {
-        const verdictTurnout = this.applyCommand({ type: 'turnout', turnout: command.turnout, position: command.position, at, by }, user, { ...journal, subject: command.turnout })
-        if (verdictTurnout.ok) this.deps.publish(turnoutSetTopic(this.slug, command.turnout), JSON.stringify({ position: command.position, by: user.name }), false)
-        return verdictTurnout
+        const outcome = this.applyCommand({ type: 'turnout', turnout: command.turnout, position: command.position, at, by }, user, { ...journal, subject: command.turnout })
+        if (outcome.ok) this.deps.publish(turnoutSetTopic(this.slug, command.turnout), JSON.stringify({ position: command.position, by: user.name }), false)
+        return outcome
       }
       case 'interpose':
         return this.applyCommand({ type: 'interpose', block: command.block, description: command.description, at, by }, user, { ...journal, subject: command.block })
@@ -148,74 +146,73 @@ export class LayoutRuntime {
     }
   }
 
-  private check(user: LiveUser, command: LiveCommand): Verdict {
+  /** The command names an area, signal, turnout, block or alarm this layout does not have. */
+  private unknownItem(command: LiveCommand): string | null {
     const state = this.engine.state()
-    const areaName = this.names.area
-    const known = (kind: string, ok: boolean, id: string): Verdict => ok ? { ok: true } : { ok: false, reason: `There is no ${kind} "${id}" on this layout.` }
+    const missing = (kind: string, id: string) => `There is no ${kind} "${id}" on this layout.`
     switch (command.action) {
-      case 'take-area': {
-        if (!(command.area in this.areas)) return known('area', false, command.area)
-        if (!roleAtLeast(user.role, 'signaller')) return { ok: false, reason: 'Viewers cannot take an area of control.' }
-        const holder = this.areas[command.area]
-        if (holder?.id === user.id) return { ok: false, reason: `You already hold ${areaName(command.area)}.` }
-        if (holder) return { ok: false, reason: `${areaName(command.area)} is held by ${holder.name}; ask them to hand it over.` }
-        return { ok: true }
-      }
-      case 'release-area':
-      case 'hand-over': {
-        if (!(command.area in this.areas)) return known('area', false, command.area)
-        const verdict = mayOperate(user, command.area, this.areas, areaName, 'release or hand over this area')
-        if (!verdict.ok || command.action === 'release-area') return verdict
-        const to = this.connections.get(command.to)?.user
-        if (!to) return { ok: false, reason: 'That person is not connected to this layout.' }
-        if (!roleAtLeast(to.role, 'signaller')) return { ok: false, reason: `${to.name} is a viewer and cannot hold an area.` }
-        if (to.id === user.id) return { ok: false, reason: 'You already hold it.' }
-        return { ok: true }
-      }
-      case 'force-release':
-        if (!(command.area in this.areas)) return known('area', false, command.area)
-        if (!roleAtLeast(user.role, 'admin')) return { ok: false, reason: 'Only an admin can force-release an area.' }
-        if (!this.areas[command.area]) return { ok: false, reason: `Nobody holds ${areaName(command.area)}.` }
-        return { ok: true }
-      case 'set-override': {
-        if (!(command.signal in state.overrides)) return known('signal', false, command.signal)
-        const verdict = mayOperate(user, this.areaIndex.signal.get(command.signal), this.areas, areaName, 'set this signal')
-        if (!verdict.ok) return verdict
-        const current = state.signalRevisions[command.signal]
-        return command.revision === current ? verdict
-          : { ok: false, reason: `Signal ${this.names.signal(command.signal)} was changed meanwhile (revision ${current}, your view had ${command.revision}); look again and retry.` }
-      }
-      case 'set-turnout': {
-        if (!(command.turnout in state.turnouts)) return known('turnout', false, command.turnout)
-        const verdict = mayOperate(user, this.areaIndex.turnout.get(command.turnout), this.areas, areaName, 'throw this turnout')
-        if (!verdict.ok) return verdict
-        const current = state.turnoutRevisions[command.turnout]
-        return command.revision === current ? verdict
-          : { ok: false, reason: `Turnout ${command.turnout} was changed meanwhile (revision ${current}, your view had ${command.revision}); look again and retry.` }
-      }
-      case 'interpose':
-        if (!(command.block in state.occupied)) return known('block', false, command.block)
-        return mayInterpose(user, command.block, this.areaIndex, this.areas, areaName)
+      case 'take-area': case 'release-area': case 'hand-over': case 'force-release':
+        return this.area(command.area) ? null : missing('area', command.area)
+      case 'set-override': return command.signal in state.overrides ? null : missing('signal', command.signal)
+      case 'set-turnout': return command.turnout in state.turnouts ? null : missing('turnout', command.turnout)
+      case 'interpose': return command.block in state.occupied ? null : missing('block', command.block)
       case 'acknowledge': {
-        if (!roleAtLeast(user.role, 'signaller')) return { ok: false, reason: 'Viewers cannot acknowledge alarms.' }
         const alarm = state.alarms.find(a => a.id === command.alarm)
-        if (!alarm) return { ok: false, reason: `There is no alarm "${command.alarm}".` }
-        if (alarm.acknowledgedAt !== null) return { ok: false, reason: 'That alarm has already been acknowledged.' }
-        return { ok: true }
+        if (!alarm) return `There is no alarm "${command.alarm}".`
+        return alarm.acknowledgedAt === null ? null : 'That alarm has already been acknowledged.'
       }
     }
   }
 
-  private setHolder(area: string, holder: LiveUser | null, text: string, journal: JournalFields): Verdict {
+  /** The user's role or the holders of the areas do not allow it (the rules of shared/live/rights.ts). */
+  private notAllowed(user: LiveUser, command: LiveCommand): string | null {
+    const reasonOf = (verdict: Verdict) => verdict.allowed ? null : verdict.reason
+    switch (command.action) {
+      case 'take-area': return reasonOf(areaVerdict(user, this.areas, this.area(command.area)!, 'take'))
+      case 'release-area': return reasonOf(areaVerdict(user, this.areas, this.area(command.area)!, 'release'))
+      case 'force-release': return reasonOf(areaVerdict(user, this.areas, this.area(command.area)!, 'force-release'))
+      case 'hand-over': {
+        const area = this.area(command.area)!
+        return reasonOf(areaVerdict(user, this.areas, area, 'hand-over'))
+          ?? reasonOf(handOverTargetVerdict(user, area, this.connections.get(command.to)?.user ?? null))
+      }
+      case 'set-override': return reasonOf(signalVerdict(user, this.layout, this.areas, command.signal))
+      case 'set-turnout': return reasonOf(turnoutVerdict(user, this.layout, this.areas, command.turnout))
+      case 'interpose': return reasonOf(interposeVerdict(user, this.layout, this.areas, command.block))
+      case 'acknowledge': return reasonOf(acknowledgeVerdict(user))
+    }
+  }
+
+  /** The command was made against an older revision of the signal or turnout than the current one. */
+  private staleRevision(command: LiveCommand): string | null {
+    const state = this.engine.state()
+    const changed = (what: string, current: number, seen: number) =>
+      `${what} was changed meanwhile (revision ${current}, your view had ${seen}); look again and retry.`
+    if (command.action === 'set-override') {
+      const current = state.signalRevisions[command.signal]!
+      return command.revision === current ? null : changed(`Signal ${this.names.signal(command.signal)}`, current, command.revision)
+    }
+    if (command.action === 'set-turnout') {
+      const current = state.turnoutRevisions[command.turnout]!
+      return command.revision === current ? null : changed(`Turnout ${command.turnout}`, current, command.revision)
+    }
+    return null
+  }
+
+  private area(id: string): LayoutArea | undefined {
+    return this.layout.areas.find(a => a.id === id)
+  }
+
+  private setHolder(area: string, holder: LiveUser | null, text: string, journal: JournalFields): CommandOutcome {
     this.areas = { ...this.areas, [area]: holder }
     this.emit([{ type: 'areas', areas: this.areas }, { type: 'feed', entry: this.pushFeed({ at: journal.at, tone: 'info', text }) }], journal)
     return { ok: true }
   }
 
-  private applyCommand(event: LayoutEvent, user: LiveUser, journal: JournalFields): Verdict {
+  private applyCommand(event: LayoutEvent, user: LiveUser, journal: JournalFields): CommandOutcome {
     const changes = this.engine.apply(event)
     const error = changes.find(c => c.type === 'error')
-    if (error && error.type === 'error') { this.counters.refusedCommands++; return { ok: false, reason: error.message } }
+    if (error && error.type === 'error') return { ok: false, reason: error.message }
     this.publishAndEmit(changes, journal, user)
     return { ok: true }
   }
@@ -255,13 +252,12 @@ export class LayoutRuntime {
   }
 
   private pushFeed(entry: FeedEntry): FeedEntry {
-    this.feed = [entry, ...this.feed].slice(0, FEED_LENGTH)
+    this.feed = [...this.feed, entry].slice(-FEED_LENGTH)
     return entry
   }
 
   /** Sends one numbered delta to the layout's panels and journals the input and each engine change. */
   private emit(changes: LiveChange[], journal?: JournalFields, engineChanges: Change[] = []): void {
-    this.counters.events++
     this.queueDelta(changes)
     if (!journal) return
     const base = { layoutId: this.deps.layoutId, sessionId: this.session?.id ?? null }

@@ -9,7 +9,7 @@ import { startBroker, type RunningBroker } from './broker'
 import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
 import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } from './payloads'
-import { INPUT_FILTERS, parseInputTopic } from './topics'
+import { INPUT_FILTERS, parseInputTopic } from '#shared/live/topics'
 import { LayoutRuntime } from './runtime'
 import { restoreLayoutState } from './restore'
 
@@ -43,7 +43,7 @@ const log = (message: string) => console.log(`[blockbell] ${message}`)
 export class LiveService {
   readonly hub = new PanelHub()
   readonly runtimes = new Map<string, LayoutRuntime>()
-  readonly counters = { mqttRejected: 0, mqttUnknownLayout: 0 }
+  readonly counters = { mqttRejected: 0 }
   private broker: RunningBroker | null = null
   private client: MqttClient | null = null
   private journal: Journal
@@ -127,7 +127,7 @@ export class LiveService {
       // An empty payload is how a retained message is cleared: nothing to act on.
       if (!input || payload.length === 0) return
       const runtime = this.runtimes.get(input.layout)
-      if (!runtime) { this.counters.mqttUnknownLayout++; return }
+      if (!runtime) return
       const reject = (reason: string) => {
         this.counters.mqttRejected++
         if (this.counters.mqttRejected <= 20 || this.counters.mqttRejected % 1000 === 0) log(`MQTT message on ${topic} dropped: ${reason} (${this.counters.mqttRejected} so far)`)

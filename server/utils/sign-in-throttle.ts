@@ -2,9 +2,9 @@
  * Throttles repeated failed sign-ins, per e-mail address and per client address, in a sliding window.
  * Kept in memory: one server process holds it (a restart forgets it).
  */
-export const THROTTLE_WINDOW_MS = 15 * 60_000
-export const MAX_FAILURES_PER_ACCOUNT = 5
-export const MAX_FAILURES_PER_CLIENT = 20
+const THROTTLE_WINDOW_MS = 15 * 60_000
+const MAX_FAILURES_PER_ACCOUNT = 5
+const MAX_FAILURES_PER_CLIENT = 20
 
 const failures = new Map<string, number[]>()
 

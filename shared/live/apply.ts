@@ -26,7 +26,7 @@ export type DeltaMessage = Extract<ServerMessage, { type: 'delta' }>
 /** How many feed entries a panel keeps (newest last). */
 export const FEED_LIMIT = 50
 
-export function emptyState(): LiveState {
+function emptyState(): LiveState {
   return {
     occupied: {}, turnouts: {}, overrides: {}, descriptions: {}, alarms: [], indications: {},
     signalRevisions: {}, turnoutRevisions: {}, dropouts: {},
@@ -78,7 +78,7 @@ function upsertAlarm(state: LiveState, alarm: LiveState['alarms'][number]): void
 }
 
 /** Applies one change of a delta. Changes that carry nothing a panel shows (detector, speed, error) are skipped. */
-export function applyChange(view: PanelView, change: LiveChange): void {
+function applyChange(view: PanelView, change: LiveChange): void {
   const s = view.state
   switch (change.type) {
     case 'block': s.occupied[change.block] = change.occupied; break

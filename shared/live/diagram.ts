@@ -40,7 +40,7 @@ export function pointsAttr(path: Point[]): string {
 }
 
 /** Unit vector of the direction of travel. */
-export function facingVector(facing: DiagramFacingName): Point {
+function facingVector(facing: DiagramFacingName): Point {
   return ({ left: [-1, 0], right: [1, 0], up: [0, -1], down: [0, 1] } as const)[facing] as Point
 }
 

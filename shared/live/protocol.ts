@@ -3,6 +3,7 @@ import { ItemId } from '../schemas/layout'
 import type { Layout } from '../schemas/layout'
 import type { Alarm, Change, Indication, OverrideMode, TurnoutPosition } from '../signalling'
 import type { Role } from '../utils/roles'
+import { OVERRIDE_MODES, TURNOUT_LEGS } from '../signalling/values'
 
 /**
  * Blockbell's live protocol between a panel and the server, over one WebSocket at `/live`.
@@ -24,8 +25,8 @@ export const LiveCommand = z.discriminatedUnion('action', [
   z.object({ action: z.literal('release-area'), area: ItemId }),
   z.object({ action: z.literal('force-release'), area: ItemId }),
   z.object({ action: z.literal('hand-over'), area: ItemId, to: z.number().int().positive() }),
-  z.object({ action: z.literal('set-override'), signal: ItemId, mode: z.enum(['hold', 'auto', 'clear']), revision: Revision }),
-  z.object({ action: z.literal('set-turnout'), turnout: ItemId, position: z.enum(['normal', 'reverse']), revision: Revision }),
+  z.object({ action: z.literal('set-override'), signal: ItemId, mode: z.enum(OVERRIDE_MODES), revision: Revision }),
+  z.object({ action: z.literal('set-turnout'), turnout: ItemId, position: z.enum(TURNOUT_LEGS), revision: Revision }),
   z.object({ action: z.literal('interpose'), block: ItemId, description: z.string().trim().max(16, 'a description is at most 16 characters') }),
   z.object({ action: z.literal('acknowledge'), alarm: z.string().min(1).max(40) }),
 ], { error: 'action is one of take-area, release-area, force-release, hand-over, set-override, set-turnout, interpose, acknowledge' })
@@ -88,7 +89,9 @@ export type ServerMessage =
   | {
     type: 'snapshot', layout: string, seq: number, definition: Layout, state: LiveState,
     areas: AreaHolders, operators: LiveUser[], devices: Record<string, DeviceStatus>,
-    session: LiveSession | null, feed: FeedEntry[]
+    session: LiveSession | null,
+    /** The latest feed entries, oldest first (newest last), as a panel keeps them. */
+    feed: FeedEntry[]
   }
   | { type: 'delta', layout: string, seq: number, changes: LiveChange[] }
   | { type: 'command-result', id: string, ok: true }

@@ -3,8 +3,8 @@ import { roleAtLeast, type Role } from '../utils/roles'
 import type { AreaHolders, LiveUser } from './protocol'
 
 /**
- * Who may work what on the panel. The server checks every command again; these rules only decide which
- * controls a panel shows and how it explains the ones it hides.
+ * Who may work what, in one place: the server refuses a command with these reasons, and a panel uses the
+ * same rules to decide which controls it shows and how it explains the ones it hides.
  * - Signals and turnouts are worked by the signaller (or admin) who holds their area of control.
  * - A block belongs to the first area (in the definition's order) with a signal reading into it or a turnout
  *   in it; interposing there needs that area. A block in no area (a fiddle yard, say) takes any area held.
@@ -19,7 +19,7 @@ export function areaOfSignal(def: Layout, signal: string): LayoutArea | null {
   return def.areas.find(a => a.signals.includes(signal)) ?? null
 }
 
-export function areaOfTurnout(def: Layout, turnout: string): LayoutArea | null {
+function areaOfTurnout(def: Layout, turnout: string): LayoutArea | null {
   return def.areas.find(a => a.turnouts.includes(turnout)) ?? null
 }
 
@@ -29,14 +29,14 @@ export function areaOfBlock(def: Layout, block: string): LayoutArea | null {
   return def.areas.find(a => a.signals.some(s => signals.has(s)) || a.turnouts.some(t => turnouts.has(t))) ?? null
 }
 
-export function holderOf(holders: AreaHolders, area: string): LiveUser | null {
+function holderOf(holders: AreaHolders, area: string): LiveUser | null {
   return holders[area] ?? null
 }
 
-export const VIEWER_REASON = 'You are signed in as a viewer: you can watch, not operate.'
+const VIEWER_REASON = 'You are signed in as a viewer: you can watch, not operate.'
 
 /** Whether `user` can work the items of `area` (null: the item is in no area). */
-export function verdictForArea(user: PanelUser | null, holders: AreaHolders, area: LayoutArea | null, what: string): Verdict {
+function verdictForArea(user: PanelUser | null, holders: AreaHolders, area: LayoutArea | null, what: string): Verdict {
   if (!user || !roleAtLeast(user.role, 'signaller')) return { allowed: false, area, reason: VIEWER_REASON }
   if (!area) return { allowed: false, area, reason: `This ${what} is in no area of control, so nobody works it from the panel.` }
   const holder = holderOf(holders, area.id)
@@ -61,17 +61,54 @@ export function interposeVerdict(user: PanelUser | null, def: Layout, holders: A
   return holdsAny ? { allowed: true, area: null, reason: null } : { allowed: false, area: null, reason: 'This block is in no area of control: take any area to interpose here.' }
 }
 
+export type AreaAction = 'take' | 'release' | 'hand-over' | 'force-release'
+
+/** Whether `user` may take, release, hand over or force-release `area` as the holders stand now. */
+export function areaVerdict(user: PanelUser | null, holders: AreaHolders, area: LayoutArea, action: AreaAction): Verdict {
+  const no = (reason: string): Verdict => ({ allowed: false, area, reason })
+  if (!user || !roleAtLeast(user.role, 'signaller')) return no(VIEWER_REASON)
+  const holder = holderOf(holders, area.id)
+  switch (action) {
+    case 'take':
+      if (holder?.id === user.id) return no(`You already hold ${area.name}.`)
+      if (holder) return no(`${area.name} is held by ${holder.name}; ask them to release or hand it over.`)
+      break
+    case 'release':
+    case 'hand-over':
+      if (!holder) return no(`Nobody holds ${area.name}.`)
+      if (holder.id !== user.id) return no(`${holder.name} holds ${area.name}; only the holder can release or hand it over.`)
+      break
+    case 'force-release':
+      if (!roleAtLeast(user.role, 'admin')) return no('Only an admin can force-release an area.')
+      if (!holder) return no(`Nobody holds ${area.name}.`)
+      break
+  }
+  return { allowed: true, area, reason: null }
+}
+
+/** Whether `to` can receive `area` from its holder (checked after `areaVerdict(..., 'hand-over')`). */
+export function handOverTargetVerdict(user: PanelUser, area: LayoutArea, to: LiveUser | null): Verdict {
+  if (!to) return { allowed: false, area, reason: 'That person is not connected to this layout.' }
+  if (to.id === user.id) return { allowed: false, area, reason: 'You already hold it.' }
+  if (!roleAtLeast(to.role, 'signaller')) return { allowed: false, area, reason: `${to.name} is a viewer and cannot hold an area.` }
+  return { allowed: true, area, reason: null }
+}
+
+export function acknowledgeVerdict(user: PanelUser | null): Verdict {
+  return user && roleAtLeast(user.role, 'signaller') ? { allowed: true, area: null, reason: null } : { allowed: false, area: null, reason: VIEWER_REASON }
+}
+
 /** What the area bar offers `user` for one area. */
 export interface AreaActions { take: boolean, release: boolean, handOver: boolean, forceRelease: boolean, note: string | null }
 
 export function areaActions(user: PanelUser | null, holders: AreaHolders, area: LayoutArea): AreaActions {
-  const none: AreaActions = { take: false, release: false, handOver: false, forceRelease: false, note: null }
+  const may = (action: AreaAction) => areaVerdict(user, holders, area, action).allowed
   const holder = holderOf(holders, area.id)
-  if (!user || !roleAtLeast(user.role, 'signaller')) return { ...none, note: 'Viewers watch only.' }
-  if (!holder) return { ...none, take: true }
-  if (holder.id === user.id) return { ...none, release: true, handOver: true }
-  const admin = roleAtLeast(user.role, 'admin')
-  return { ...none, forceRelease: admin, note: admin ? null : `Held by ${holder.name}: ask them to release or hand it over.` }
+  const mine = !!user && holder?.id === user.id
+  const actions: AreaActions = { take: may('take'), release: may('release'), handOver: may('hand-over'), forceRelease: may('force-release') && !mine, note: null }
+  if (!user || !roleAtLeast(user.role, 'signaller')) actions.note = 'Viewers watch only.'
+  else if (holder && holder.id !== user.id && !actions.forceRelease) actions.note = `Held by ${holder.name}: ask them to release or hand it over.`
+  return actions
 }
 
 /** Connected people who could take an area over from `user`: other signallers and admins. */

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { END_OF_LINE, SIGNAL_KINDS, TURNOUT_LEGS } from '../signalling/values'
 
 /**
  * Blockbell layout definition, format 1.
@@ -44,7 +45,7 @@ export const Block = z.object({
 /** A train can run from block `from` into block `to`. */
 export const Link = z.object({ from: ItemId, to: ItemId })
 
-export const TurnoutPositionName = z.enum(['normal', 'reverse'])
+export const TurnoutPositionName = z.enum(TURNOUT_LEGS)
 
 /**
  * A turnout in `block` chooses between two neighbouring blocks, its legs `normal` and `reverse`.
@@ -58,8 +59,8 @@ export const Turnout = z.object({
   reverse: ItemId,
 })
 
-export const SignalKind = z.enum(['two-aspect', 'three-aspect', 'four-aspect', 'distant'])
-export const EndOfLine = z.enum(['danger-ahead', 'clear-ahead'])
+export const SignalKind = z.enum(SIGNAL_KINDS)
+export const EndOfLine = z.enum(END_OF_LINE)
 
 export const Signal = z.object({
   id: ItemId,
@@ -111,7 +112,7 @@ export const Diagram = z.object({
     .default([]),
 })
 
-export const EMPTY_DIAGRAM = { width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] }
+const EMPTY_DIAGRAM = { width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] }
 
 export const LayoutDefinition = z.object({
   schema: z.literal(1, 'schema must be 1'),

@@ -12,6 +12,7 @@ import type {
   OverrideMode,
   TurnoutPosition,
 } from './types'
+import { OVERRIDE_MODES, TURNOUT_POSITIONS } from './values'
 
 /** Longest train description accepted by interpose. */
 export const MAX_DESCRIPTION_LENGTH = 16
@@ -113,8 +114,8 @@ class Draft {
   }
 }
 
-const TURNOUT_POSITIONS: readonly TurnoutPosition[] = ['normal', 'reverse', 'unknown']
-const OVERRIDE_MODES: readonly OverrideMode[] = ['hold', 'auto', 'clear']
+const isTurnoutPosition = (v: unknown): v is TurnoutPosition => (TURNOUT_POSITIONS as readonly unknown[]).includes(v)
+const isOverrideMode = (v: unknown): v is OverrideMode => (OVERRIDE_MODES as readonly unknown[]).includes(v)
 
 const invalid = (path: string, message: string): ErrorChange => ({ type: 'error', code: 'invalid-event', path, message })
 const unknown = (path: string, message: string): ErrorChange => ({ type: 'error', code: 'unknown-id', path, message })
@@ -131,11 +132,11 @@ function checkEvent(event: unknown): ErrorChange | null {
       return null
     case 'turnout':
       if (typeof e.turnout !== 'string') return invalid('turnout', 'turnout must be a turnout id')
-      if (!TURNOUT_POSITIONS.includes(e.position as TurnoutPosition)) return invalid('position', 'position must be normal, reverse or unknown')
+      if (!isTurnoutPosition(e.position)) return invalid('position', 'position must be normal, reverse or unknown')
       return null
     case 'override':
       if (typeof e.signal !== 'string') return invalid('signal', 'signal must be a signal id')
-      if (!OVERRIDE_MODES.includes(e.mode as OverrideMode)) return invalid('mode', 'mode must be hold, auto or clear')
+      if (!isOverrideMode(e.mode)) return invalid('mode', 'mode must be hold, auto or clear')
       return null
     case 'interpose':
       if (typeof e.block !== 'string') return invalid('block', 'block must be a block id')

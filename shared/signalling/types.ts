@@ -2,9 +2,9 @@ import type { Layout } from '../schemas/layout'
 
 export type { Layout }
 
-export type Aspect = 'danger' | 'caution' | 'preliminary-caution' | 'proceed'
-export type OverrideMode = 'hold' | 'auto' | 'clear'
-export type TurnoutPosition = 'normal' | 'reverse' | 'unknown'
+import type { Aspect, OverrideMode, TurnoutPosition } from './values'
+
+export type { Aspect, OverrideMode, TurnoutPosition }
 
 /** What a signal shows, as the panels and the hardware receive it. */
 export interface Indication {

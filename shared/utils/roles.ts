@@ -1,4 +1,4 @@
-/** The three roles of Blockbell (DESIGN.md "Roles"), lowest first. */
+/** The three roles of Blockbell (README "Roles"), lowest first. */
 export const ROLES = ['viewer', 'signaller', 'admin'] as const
 export type Role = typeof ROLES[number]
 

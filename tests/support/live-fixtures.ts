@@ -1,9 +1,11 @@
-// Live protocol messages for panel tests, made by running the real signalling engine over the demo layout
+// Live protocol messages for panel tests, made by the server's own LayoutRuntime over the demo layout
 // (Wrenfold Junction, an invented scenario). People are the invented Fernhollow Light Railway demo accounts.
 import demo from '#shared/layouts/demo-layout.json'
-import { applyEvent, computeIndications, initialState, validateLayout } from '#shared/signalling'
-import type { Change, Layout, LayoutEvent, LayoutState } from '#shared/signalling'
-import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveSession, LiveState, LiveUser } from '#shared/live/protocol'
+import { validateLayout } from '#shared/signalling'
+import type { Layout, LayoutEvent, LayoutState } from '#shared/signalling'
+import type { AreaHolders, DeviceStatus, LiveChange, LiveSession, LiveState, LiveUser } from '#shared/live/protocol'
+import { areaOfBlock, areaOfSignal } from '#shared/live/rights'
+import { LayoutRuntime, type CommandOutcome } from '../../server/live/runtime'
 import type { DeltaMessage, SnapshotMessage } from '#shared/live/apply'
 
 export const SLUG = 'wrenfold'
@@ -22,61 +24,115 @@ export function detectorOf(layout: Layout, block: string): string {
   return layout.blocks.find(b => b.id === block)!.detectors[0]!
 }
 
-/** The engine state as the protocol's LiveState carries it, with the indications the engine computes for it. */
-export function toLiveState(layout: Layout, s: LayoutState, dropouts: Record<string, number> = {}): LiveState {
-  return structuredClone({
-    occupied: s.occupied, turnouts: s.turnouts, overrides: s.overrides, descriptions: s.descriptions, alarms: s.alarms,
-    indications: computeIndications(layout, s), signalRevisions: s.signalRevisions, turnoutRevisions: s.turnoutRevisions, dropouts,
-  })
-}
-
 type EventInput = LayoutEvent extends infer E ? E extends LayoutEvent ? Omit<E, 'at'> : never : never
 
-/** Drives the engine and numbers its changes as a server would: one delta per event. */
+export interface DemoRunOptions {
+  /** An operating session running when the panel connects. */
+  session?: LiveSession | null
+}
+
+/**
+ * The demo layout driven through the server's own `LayoutRuntime` (engine, areas, feed, delta numbering),
+ * with the journal and MQTT kept in memory. Each step returns the delta the runtime broadcast for it, and
+ * `snapshot()` is the runtime's own snapshot: panel tests see exactly what a server sends.
+ * Operator steps (hold, interpose, acknowledge) are made by the holder of the item's area; when the area is
+ * free, Ada (an admin) takes it first, within the same step.
+ */
 export class DemoRun {
   readonly layout = demoLayout()
-  state: LayoutState = initialState(this.layout)
-  seq = 0
+  readonly runtime: LayoutRuntime
+  readonly deltas: DeltaMessage[] = []
+  readonly published: { topic: string, payload: string, retain: boolean }[] = []
   at = 1_767_000_000_000
-  areas: AreaHolders = { main: null, branch: null }
-  operators: LiveUser[] = [ADA, TAM, RHEA, MILO]
-  devices: Record<string, DeviceStatus> = {}
-  session: LiveSession | null = null
-  feed: FeedEntry[] = []
 
   /** Starts with every turnout reported normal (as the fake layout does at start-up), so the signals can clear. */
-  constructor() {
-    for (const t of this.layout.turnouts) {
-      this.state = applyEvent(this.layout, this.state, { type: 'turnout', turnout: t.id, position: 'normal', at: this.at }).state
-    }
+  constructor(options: DemoRunOptions = {}) {
+    this.runtime = new LayoutRuntime({
+      layoutId: 1, slug: SLUG, layout: this.layout, debounceMs: 0, now: () => this.at, session: options.session ?? null,
+      publish: (topic, payload, retain) => this.published.push({ topic, payload, retain }),
+      journal: { append: () => {} },
+      broadcast: (m) => { if (m.type === 'delta') this.deltas.push(m) },
+    })
+    this.step(() => {
+      for (const user of [ADA, TAM, RHEA, MILO]) this.runtime.connect(user)
+      for (const t of this.layout.turnouts) this.runtime.turnoutReport(t.id, 'normal', this.at)
+    })
+  }
+
+  private handMade = 0
+
+  get seq(): number { return (this.deltas.at(-1)?.seq ?? 0) + this.handMade }
+  get state(): LayoutState { return this.runtime.state() }
+  get operators(): LiveUser[] { return this.runtime.operators() }
+
+  /** Connects and disconnects panels so that exactly these people are connected. */
+  set operators(people: LiveUser[]) {
+    const now = this.runtime.operators()
+    if (now.length === people.length && now.every(o => people.some(p => p.id === o.id))) return
+    this.step(() => {
+      for (const o of now) if (!people.some(p => p.id === o.id)) this.runtime.disconnect(o)
+      for (const p of people) if (!now.some(o => o.id === p.id)) this.runtime.connect(p)
+    })
+  }
+  get areas(): AreaHolders { return structuredClone(this.runtime.areaHolders()) }
+
+  /** Hands the areas to these holders (null: free) through real take, release and force-release commands. */
+  set areas(holders: AreaHolders) {
+    const current = this.runtime.areaHolders()
+    if (Object.entries(holders).every(([area, want]) => (current[area] ?? null)?.id === want?.id)) return
+    this.step(() => {
+      for (const [area, want] of Object.entries(holders)) {
+        const now = this.runtime.areaHolders()[area] ?? null
+        if (now?.id === want?.id) continue
+        if (now) this.must(this.runtime.command(now, { action: 'release-area', area }))
+        if (want) this.must(this.runtime.command(want, { action: 'take-area', area }))
+      }
+    })
+  }
+
+  /** Reports these controllers online or offline, as their status topics would. */
+  set devices(devices: Record<string, DeviceStatus>) {
+    this.step(() => {
+      for (const [device, status] of Object.entries(devices)) this.runtime.deviceStatus(device, status.online, status.at)
+    })
   }
 
   snapshot(): SnapshotMessage {
-    return {
-      type: 'snapshot', layout: SLUG, seq: this.seq, definition: this.layout, state: this.liveState(),
-      areas: structuredClone(this.areas), operators: structuredClone(this.operators), devices: structuredClone(this.devices),
-      session: this.session, feed: structuredClone(this.feed),
-    }
+    return structuredClone(this.runtime.snapshot()) as SnapshotMessage
   }
 
   liveState(): LiveState {
-    return toLiveState(this.layout, this.state)
+    return this.snapshot().state
   }
 
-  /** Applies events to the engine and returns one delta with all their changes. */
-  event(...events: EventInput[]): DeltaMessage {
-    const changes: Change[] = []
-    for (const e of events) {
-      this.at += 1000
-      const r = applyEvent(this.layout, this.state, { ...e, at: this.at } as LayoutEvent)
-      this.state = r.state
-      changes.push(...r.changes)
-    }
-    return this.delta(changes)
+  /** One input from the hardware or one operator action, as the server would receive it. */
+  event(e: EventInput): DeltaMessage {
+    return this.step(() => {
+      switch (e.type) {
+        case 'detector': return this.runtime.detectorInput(e.detector, e.occupied, this.at)
+        case 'turnout': return this.runtime.turnoutReport(e.turnout, e.position as 'normal' | 'reverse', this.at)
+        case 'override': {
+          const user = this.holderFor(areaOfSignal(this.layout, e.signal)?.id)
+          return this.must(this.runtime.command(user, { action: 'set-override', signal: e.signal, mode: e.mode, revision: this.state.signalRevisions[e.signal]! }))
+        }
+        case 'interpose': {
+          const user = this.holderFor(areaOfBlock(this.layout, e.block)?.id ?? this.layout.areas[0]!.id)
+          return this.must(this.runtime.command(user, { action: 'interpose', block: e.block, description: e.description }))
+        }
+        case 'acknowledge': {
+          const user = this.runtime.operators().find(o => String(o.id) === e.by) ?? TAM
+          return this.must(this.runtime.command(user, { action: 'acknowledge', alarm: e.alarm }))
+        }
+      }
+    })
   }
 
+  /**
+   * A delta of hand-made changes, numbered next; only for the kinds of change the runtime cannot yet be
+   * asked for from outside. Do not send runtime steps to the same panel after it.
+   */
   delta(changes: LiveChange[]): DeltaMessage {
-    this.seq += 1
+    this.handMade++
     return { type: 'delta', layout: SLUG, seq: this.seq, changes: structuredClone(changes) }
   }
 
@@ -91,14 +147,34 @@ export class DemoRun {
   interpose(block: string, description: string): DeltaMessage {
     return this.event({ type: 'interpose', block, description })
   }
+
+  private step(act: () => void): DeltaMessage {
+    this.at += 1000
+    const before = this.deltas.length
+    act()
+    this.runtime.flushDelta()
+    if (this.deltas.length === before) throw new Error('the runtime sent no delta for this step')
+    return structuredClone(this.deltas.at(-1)!)
+  }
+
+  private holderFor(area: string | undefined): LiveUser {
+    if (!area) return ADA
+    const holder = this.runtime.areaHolders()[area]
+    if (holder) return holder
+    this.must(this.runtime.command(ADA, { action: 'take-area', area }))
+    return ADA
+  }
+
+  private must(outcome: CommandOutcome): void {
+    if (!outcome.ok) throw new Error(`the runtime refused a demo step: ${outcome.reason}`)
+  }
 }
 
 /**
- * A train described 1F42 (a headcode of the usual form, REFERENCES.md §5) enters the up approach from fiddle
+ * A train described 1F42 (a headcode of the usual form, docs/sources.md §5) enters the up approach from fiddle
  * road 1 and runs towards Quillbury while SU2 (Quillbury up starter) is held: it passes SU2 at danger.
  */
-export function spadRun(): { run: DemoRun, deltas: DeltaMessage[] } {
-  const run = new DemoRun()
+export function spadRun(run = new DemoRun()): { run: DemoRun, deltas: DeltaMessage[] } {
   const deltas = [
     run.occupy('FY1'),
     run.interpose('FY1', '1F42'),

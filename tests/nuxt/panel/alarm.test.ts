@@ -1,4 +1,4 @@
-// A signal passed at danger (DESIGN.md "Signalling rules"; REFERENCES.md §1, GERT8000 S5 definition, as
+// A signal passed at danger (README "Rules of operation"; docs/sources.md §1, GERT8000 S5 definition, as
 // detected by the real engine): the banner names signal, block and train from the layout definition, a
 // signaller acknowledges, and the acknowledgement shows everywhere.
 import { afterEach, describe, expect, it } from 'vitest'

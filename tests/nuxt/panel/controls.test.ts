@@ -1,4 +1,4 @@
-// Role-dependent controls (DESIGN.md "Roles"): only a signaller or admin holding the area works its
+// Role-dependent controls (README "Roles"): only a signaller or admin holding the area works its
 // signals and turnouts; others read who holds it; viewers get no controls at all. The panel talks to a
 // test /live server over a real WebSocket; states come from the real engine on the demo layout.
 import { afterEach, describe, expect, it, vi } from 'vitest'
@@ -66,7 +66,7 @@ describe('signal control sheet', () => {
 
   it('gives a viewer the aspect but no controls', async () => {
     signIn(MILO)
-    const ctx = await goLive(held({ branch: MILO }))
+    const ctx = await goLive(held({ branch: TAM }))
     server = ctx.server
     const w = await mountSuspended(PanelSignalSheet, { props: { signal: 'SU1' } })
     expect(w.find('[data-test="sheet-aspect"]').exists()).toBe(true)

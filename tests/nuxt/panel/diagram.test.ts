@@ -1,5 +1,5 @@
 // The mimic diagram drawn from the demo layout with states made by the real engine: aspects carry a
-// shape as well as a colour (DESIGN.md; the aspect sequence is the engine's, REFERENCES.md §1), occupied
+// shape as well as a colour (README "Rules of operation"; the aspect sequence is the engine's, docs/sources.md §1), occupied
 // and free blocks differ in stroke, descriptions stand in their berths.
 import { describe, expect, it } from 'vitest'
 import { mountSuspended } from '@nuxt/test-utils/runtime'
@@ -19,7 +19,7 @@ function mountDiagram(run: DemoRun, extra: Record<string, unknown> = {}) {
 describe('PanelDiagram', () => {
   it('draws every aspect with its own shape: danger bar, caution dot, preliminary caution two dots, proceed arrow', async () => {
     const run = new DemoRun()
-    run.occupy('UM3') // four-aspect up line: SU3 beyond, SU2 at danger, SU1 caution (REFERENCES.md §1, S1)
+    run.occupy('UM3') // four-aspect up line: SU3 beyond, SU2 at danger, SU1 caution (docs/sources.md §1, S1)
     const w = await mountDiagram(run)
     const state = run.liveState()
     const seen = new Set<string>()

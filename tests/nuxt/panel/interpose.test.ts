@@ -1,5 +1,5 @@
 // Interposing a train description into a berth: headcode-like text up to 16 characters (the engine's
-// limit; headcode form REFERENCES.md §5), empty clears the berth.
+// limit; headcode form docs/sources.md §5), empty clears the berth.
 import { afterEach, describe, expect, it } from 'vitest'
 import { mountSuspended } from '@nuxt/test-utils/runtime'
 import PanelInterposeDialog from '~/components/panel/PanelInterposeDialog.vue'

@@ -67,11 +67,9 @@ describe('Panel screen', () => {
 
   it('shows the fast clock, offline controllers, operators and the feed', async () => {
     signIn(TAM)
-    const run = new DemoRun()
-    // started 30 real minutes ago at 4:1 from 06:00 -> 08:00 model time (REFERENCES.md §6 arithmetic)
-    run.session = { id: 3, name: 'Evening running', startedAt: Date.now() - 30 * 60_000, fastClockRatio: 4, fastClockStart: '06:00' }
+    // started 30 real minutes ago at 4:1 from 06:00 -> 08:00 model time (docs/sources.md §6 arithmetic)
+    const run = new DemoRun({ session: { id: 3, name: 'Evening running', startedAt: Date.now() - 30 * 60_000, fastClockRatio: 4, fastClockStart: '06:00' } })
     run.devices = { 'board-up': { online: true, at: run.at }, 'board-branch': { online: false, at: run.at } }
-    run.feed = [{ at: run.at, text: 'Tam Oakridge took Main line', tone: 'info' }]
     run.areas = { main: TAM, branch: null }
     const ctx = await goLive(run)
     server = ctx.server

@@ -6,7 +6,7 @@ import { circle, demoLayout, demoPlans, plan } from './harness'
 
 describe('headcodes', () => {
   it.each(['1F42', '2J01', '2T33', '1U29', '1A40'])('accepts %s', (h) => {
-    // REFERENCES.md §5: digit + letter + two digits; examples from the TD feed (Wikipedia "Train reporting number")
+    // docs/sources.md §5: digit + letter + two digits; examples from the TD feed (Wikipedia "Train reporting number")
     expect(HEADCODE.test(h)).toBe(true)
   })
   it.each(['1f42', 'F142', '12F4', '1F4', '1F423', ''])('refuses %j', (h) => {

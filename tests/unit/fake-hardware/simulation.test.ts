@@ -16,10 +16,10 @@ function runUntil(sim: Simulation, aspects: Parameters<Simulation['step']>[1], u
 
 describe('scale speed of the trains', () => {
   it('runs 1 m of OO track in 5 s at 54.86 scale km/h', () => {
-    // REFERENCES.md §3 case 6 [C]: OO 1:76.2, 1 m block in 5 s -> 0.2 m/s x 76.2 = 15.24 m/s = 54.86 km/h
+    // docs/sources.md §3 case 6 [C]: OO 1:76.2, 1 m block in 5 s -> 0.2 m/s x 76.2 = 15.24 m/s = 54.86 km/h
     const oo = SCALES.find((s) => s.name === 'OO')!
     expect(modelMmPerSecond(54.864, oo.ratio)).toBeCloseTo(200, 6)
-    // HO: 1 ft/s is about 60 scale mph (REFERENCES.md §3 case 2, forum.trains.com rule of thumb): 95.57 km/h
+    // HO: 1 ft/s is about 60 scale mph (docs/sources.md §3 case 2, forum.trains.com rule of thumb): 95.57 km/h
     expect(modelMmPerSecond(95.57, SCALES.find((s) => s.name === 'HO')!.ratio)).toBeCloseTo(304.8, 0)
     const sim = new Simulation(circle(6, 1000, false), [plan({ headcode: '1F42', lengthMm: 300, speedKmh: 54.864, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
@@ -30,7 +30,7 @@ describe('scale speed of the trains', () => {
   })
 
   it('runs 3 ft in 10.4 s at the SDMRC worked example speed', () => {
-    // REFERENCES.md §3 case 1b [C]: 0.9144 m in 10.4 s at 1:76.2 = 24.12 km/h
+    // docs/sources.md §3 case 1b [C]: 0.9144 m in 10.4 s at 1:76.2 = 24.12 km/h
     const sim = new Simulation(circle(6, 914.4, false), [plan({ headcode: '2J01', lengthMm: 300, speedKmh: 24.1196, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
     const ps = runUntil(sim, {}, () => false, 40_000)

@@ -1,5 +1,5 @@
 // Applying the server's snapshot and deltas on the panel. The expected state is always the real signalling
-// engine's own state after the same events (shared/signalling, built to DESIGN.md "Signalling rules").
+// engine's own state after the same events (shared/signalling, built to README "Rules of operation").
 import { describe, expect, it } from 'vitest'
 import { FEED_LIMIT, applyDelta, applySnapshot, emptyView } from '#shared/live/apply'
 import { DemoRun, SLUG, TAM, spadRun } from '../../support/live-fixtures'
@@ -12,7 +12,7 @@ describe('applySnapshot', () => {
     const view = emptyView()
     applySnapshot(view, run.snapshot())
     expect(view.layout).toBe(SLUG)
-    expect(view.seq).toBe(2)
+    expect(view.seq).toBe(run.seq)
     expect(view.state).toEqual(run.liveState())
     expect(view.state.descriptions).toEqual({ UM2: '2T33' })
     expect(view.definition?.name).toBe('Wrenfold Junction')
@@ -49,18 +49,39 @@ describe('applySnapshot', () => {
     applyDelta(view, run.occupy('UM1'))
     applyDelta(view, run.interpose('UM1', '1A40'))
     applySnapshot(view, first)
-    expect(view.seq).toBe(0)
+    expect(view.seq).toBe(first.seq)
     expect(view.state.occupied.UM1).toBe(false)
     expect(view.state.descriptions).toEqual({})
   })
 
-  it('keeps only the newest feed entries', () => {
+  it('keeps only the newest feed entries, newest last', () => {
     const run = new DemoRun()
-    run.feed = Array.from({ length: FEED_LIMIT + 7 }, (_, i) => ({ at: i, text: `entry ${i}`, tone: 'info' as const }))
     const view = emptyView()
     applySnapshot(view, run.snapshot())
+    for (let i = 0; i < FEED_LIMIT; i++) {
+      applyDelta(view, run.event({ type: 'override', signal: 'SU3', mode: i % 2 ? 'auto' : 'hold' }))
+    }
     expect(view.feed).toHaveLength(FEED_LIMIT)
-    expect(view.feed.at(-1)?.text).toBe(`entry ${FEED_LIMIT + 6}`)
+    expect(view.feed.at(-1)).toEqual(run.snapshot().feed.at(-1))
+    expect(view.feed.map(e => e.at)).toEqual([...view.feed.map(e => e.at)].sort((a, b) => a - b))
+  })
+
+  it('shows the feed in the same order after a load or a reconnect as on a panel connected all along', () => {
+    const run = new DemoRun()
+    const allAlong = emptyView()
+    applySnapshot(allAlong, run.snapshot())
+    const { deltas } = spadRun(run)
+    for (const d of deltas) applyDelta(allAlong, d)
+    const loadedNow = emptyView()
+    applySnapshot(loadedNow, run.snapshot())
+    expect(loadedNow.feed.length).toBeGreaterThan(3)
+    expect(loadedNow.feed).toEqual(allAlong.feed.slice(-loadedNow.feed.length))
+    // and the deltas that follow go on at the same end on both
+    const next = run.occupy('UM3', false)
+    applyDelta(allAlong, next)
+    applyDelta(loadedNow, next)
+    expect(loadedNow.feed.at(-1)).toEqual(allAlong.feed.at(-1))
+    expect(loadedNow.feed).toEqual(allAlong.feed.slice(-loadedNow.feed.length))
   })
 })
 
@@ -134,9 +155,9 @@ describe('applyDelta', () => {
     applySnapshot(view, new DemoRun().snapshot())
     for (const d of deltas) applyDelta(view, d)
     const id = view.state.alarms[0]!.id
-    expect(applyDelta(view, run.event({ type: 'acknowledge', alarm: id, by: TAM.name }))).toBe('applied')
+    expect(applyDelta(view, run.event({ type: 'acknowledge', alarm: id, by: String(TAM.id) }))).toBe('applied')
     expect(view.state.alarms).toHaveLength(1)
-    expect(view.state.alarms[0]).toMatchObject({ id, signal: 'SU2', block: 'UM3', description: '1F42', acknowledgedBy: TAM.name })
+    expect(view.state.alarms[0]).toMatchObject({ id, signal: 'SU2', block: 'UM3', description: '1F42', acknowledgedBy: String(TAM.id) })
     expect(view.state.alarms[0]!.acknowledgedAt).toBeGreaterThan(view.state.alarms[0]!.at)
   })
 
@@ -158,7 +179,7 @@ describe('applyDelta', () => {
     expect(view.operators).toEqual([TAM])
     expect(view.devices['fake-board-1']).toEqual({ online: false, at: run.at })
     expect(view.state.dropouts).toEqual({ UM2: run.at })
-    expect(view.feed.map(e => e.text)).toEqual(['Tam Oakridge took Main line'])
+    expect(view.feed.at(-1)?.text).toBe('Tam Oakridge took Main line')
     expect(view.session).toEqual(session)
     applyDelta(view, run.delta([{ type: 'session', session: null }]))
     expect(view.session).toBeNull()

@@ -1,4 +1,4 @@
-// The session's fast clock. Check values: REFERENCES.md §6 (fast_elapsed = ratio x real_elapsed, [C] from the
+// The session's fast clock. Check values: docs/sources.md §6 (fast_elapsed = ratio x real_elapsed, [C] from the
 // fast-clock sources listed there; there is no standard for fast clocks, common practice is 4:1 to 12:1).
 import { describe, expect, it } from 'vitest'
 import { modelMinutesElapsed, modelTime } from '#shared/live/clock'
@@ -9,15 +9,15 @@ const session = (ratio: number, start: string | null) => ({ id: 1, name: 'Evenin
 
 describe('fast clock', () => {
   it.each([
-    [4, 15, 60], // REFERENCES.md §6: 4:1, 15 real min -> 60 fast min
+    [4, 15, 60], // docs/sources.md §6: 4:1, 15 real min -> 60 fast min
     [6, 10, 60], // 6:1, 10 real min -> 60
     [12, 5, 60], // 12:1, 5 real min -> 60
     [5, 3, 15], // 5:1, 3 real min -> 15
-  ])('at %i:1, %i real minutes are %i model minutes (REFERENCES.md §6)', (ratio, real, model) => {
+  ])('at %i:1, %i real minutes are %i model minutes (docs/sources.md §6)', (ratio, real, model) => {
     expect(modelMinutesElapsed(session(ratio, '06:00'), START + real * MIN)).toBeCloseTo(model, 9)
   })
 
-  it('reads 15:00 after 90 real minutes at 6:1 from a 06:00 start (REFERENCES.md §6)', () => {
+  it('reads 15:00 after 90 real minutes at 6:1 from a 06:00 start (docs/sources.md §6)', () => {
     expect(modelTime(session(6, '06:00'), START + 90 * MIN)).toEqual({ text: '15:00', timeOfDay: true, days: 0 })
   })
 

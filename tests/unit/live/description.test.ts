@@ -1,4 +1,4 @@
-// Train descriptions typed at the panel. Headcode form: REFERENCES.md §5 (digit, letter, two digits, e.g.
+// Train descriptions typed at the panel. Headcode form: docs/sources.md §5 (digit, letter, two digits, e.g.
 // 1F42, 2J01); the 16-character limit is the engine's (MAX_DESCRIPTION_LENGTH) and the protocol's.
 import { describe, expect, it } from 'vitest'
 import { MAX_DESCRIPTION_LENGTH } from '#shared/signalling'
@@ -9,7 +9,7 @@ describe('checkDescription', () => {
     expect(DESCRIPTION_MAX).toBe(MAX_DESCRIPTION_LENGTH)
   })
 
-  it.each(['1F42', '2J01', '2T33', '1U29'])('accepts the headcode %s (REFERENCES.md §5)', (h) => {
+  it.each(['1F42', '2J01', '2T33', '1U29'])('accepts the headcode %s (docs/sources.md §5)', (h) => {
     expect(checkDescription(h)).toEqual({ ok: true, value: h })
   })
 

@@ -1,4 +1,4 @@
-// Which controls the panel offers (DESIGN.md "Roles": signallers work the signals and turnouts of areas they
+// Which controls the panel offers (README "Roles": signallers work the signals and turnouts of areas they
 // hold, admins may also force-release, viewers watch only). Demo layout areas: main (Main line), branch.
 import { describe, expect, it } from 'vitest'
 import { areaActions, handOverCandidates, interposeVerdict, signalVerdict, turnoutVerdict } from '#shared/live/rights'

@@ -1,0 +1,61 @@
+import type { Indication } from '../signalling'
+
+/**
+ * Blockbell's MQTT topics (docs/mqtt-topics.md), the one place they are spelt: the server's bridge, the fake
+ * layout and its simulation all build and read them here. Everything of one layout lives under its prefix;
+ * `relative` names a topic below that prefix, `layoutTopic` gives the full name.
+ */
+export const TOPIC_ROOT = 'blockbell/v1'
+export const layoutPrefix = (slug: string) => `${TOPIC_ROOT}/${slug}/`
+
+export const relative = {
+  detector: (id: string) => `detector/${id}`,
+  turnout: (id: string) => `turnout/${id}`,
+  turnoutSet: (id: string) => `turnout/${id}/set`,
+  signal: (id: string) => `signal/${id}`,
+  deviceStatus: (id: string) => `device/${id}/status`,
+} as const
+
+export const layoutTopic = (slug: string, relativeTopic: string) => layoutPrefix(slug) + relativeTopic
+export const signalTopic = (slug: string, signal: string) => layoutTopic(slug, relative.signal(signal))
+export const turnoutSetTopic = (slug: string, turnout: string) => layoutTopic(slug, relative.turnoutSet(turnout))
+
+/** Topic filters the server's bridge subscribes to, for every layout. */
+export const INPUT_FILTERS = [relative.detector('+'), relative.turnout('+'), relative.deviceStatus('+')].map(t => `${TOPIC_ROOT}/+/${t}`)
+
+/** Topic filters a layout's hardware subscribes to: signal indications and throw requests. */
+export const HARDWARE_FILTERS = (slug: string) => [layoutTopic(slug, relative.signal('+')), layoutTopic(slug, relative.turnoutSet('+'))]
+
+export type InputTopic =
+  | { kind: 'detector', layout: string, id: string }
+  | { kind: 'turnout', layout: string, id: string }
+  | { kind: 'device-status', layout: string, id: string }
+
+/** Reads an input topic, or null for anything else (our own outputs included). */
+export function parseInputTopic(topic: string): InputTopic | null {
+  const parts = topic.split('/')
+  if (`${parts[0]}/${parts[1]}` !== TOPIC_ROOT || !parts[2]) return null
+  const [, , layout, kind, id, rest] = parts
+  if (!id) return null
+  if (kind === 'detector' && parts.length === 5) return { kind: 'detector', layout: layout!, id }
+  if (kind === 'turnout' && parts.length === 5) return { kind: 'turnout', layout: layout!, id }
+  if (kind === 'device' && rest === 'status' && parts.length === 6) return { kind: 'device-status', layout: layout!, id }
+  return null
+}
+
+/** The turnout a `turnout/<id>/set` topic (relative to the layout prefix) asks to throw, or null. */
+export function turnoutSetOf(relativeTopic: string): string | null {
+  return /^turnout\/([^/]+)\/set$/.exec(relativeTopic)?.[1] ?? null
+}
+
+/** The signal a `signal/<id>` topic (relative to the layout prefix) carries, or null. */
+export function signalOf(relativeTopic: string): string | null {
+  return /^signal\/([^/]+)$/.exec(relativeTopic)?.[1] ?? null
+}
+
+/** Whether a relative topic is one the hardware reports as retained: a turnout position or a device status. */
+export const isRetainedInput = (relativeTopic: string) => /^turnout\/[^/]+$/.test(relativeTopic) || relativeTopic.startsWith('device/')
+
+export function signalPayload(indication: Indication, at: number): string {
+  return JSON.stringify({ aspect: indication.aspect, indicator: indication.indicator, override: indication.override, exceedsLine: indication.exceedsLine, at })
+}
