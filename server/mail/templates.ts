@@ -42,8 +42,10 @@ function frameHtml({ heading, paragraphs, action, after = [], footer }: Frame): 
 <tr><td style="padding:24px">
 <h1 style="margin:0 0 16px;font-size:22px;color:#121b19">${heading}</h1>
 ${paragraphs.map(p)}
-${action ? html`<p style="margin:20px 0"><a href="${action.url}" style="display:inline-block;background:#d49b2f;color:#0b1110;font-weight:700;text-decoration:none;padding:12px 20px;border-radius:8px">${action.label}</a></p>
-<p style="margin:0 0 14px;font-size:13px;color:#4a5d56">If the button does not work, copy this address into your browser:<br><a href="${action.url}" style="color:#8a5f18;word-break:break-all">${action.url}</a></p>` : ''}
+${action
+  ? html`<p style="margin:20px 0"><a href="${action.url}" style="display:inline-block;background:#d49b2f;color:#0b1110;font-weight:700;text-decoration:none;padding:12px 20px;border-radius:8px">${action.label}</a></p>
+<p style="margin:0 0 14px;font-size:13px;color:#4a5d56">If the button does not work, copy this address into your browser:<br><a href="${action.url}" style="color:#8a5f18;word-break:break-all">${action.url}</a></p>`
+  : ''}
 ${after.map(p)}
 </td></tr>
 <tr><td style="padding:14px 24px;border-top:1px solid #d5dfdb;font-size:12px;color:#627870">${footer}</td></tr>
