@@ -21,5 +21,6 @@ export const useInvitationsStore = defineStore('invitations', () => {
     invitations.value = invitations.value.filter(i => i.id !== id)
   }
 
-  return { invitations: readonly(invitations), load, invite, revoke }
+  // Plain refs (not readonly): Pinia restores server-rendered state only into refs it can write when the page hydrates.
+  return { invitations, load, invite, revoke }
 })

@@ -14,5 +14,6 @@ export const useOutboxStore = defineStore('outbox', () => {
     messages.value = messages.value.map(m => (m.id === id ? message : m))
   }
 
-  return { messages: readonly(messages), load, retry }
+  // Plain refs (not readonly): Pinia restores server-rendered state only into refs it can write when the page hydrates.
+  return { messages, load, retry }
 })

@@ -48,7 +48,6 @@ describe('e-mail in a real browser (Debian chromium)', () => {
     await signInThroughForm(page, DEMO.admin.email, DEMO.admin.password)
     await page.waitForURL('**/panel')
     await page.goto('/people')
-    await expect.poll(() => page.getByTestId(`person-${DEMO.admin.email}`).count()).toBe(1)
     const form = page.getByTestId('invite-person')
     await form.getByLabel('E-mail address').fill(inviteeEmail)
     await form.getByLabel('Role').selectOption('signaller')
@@ -97,6 +96,16 @@ describe('e-mail in a real browser (Debian chromium)', () => {
     await screenshot(page, 'outbox-1280x800')
     await first.getByRole('button', { name: 'Plain text' }).click()
     await expect.poll(() => first.getByTestId('outbox-text').textContent()).toContain('/invitation/')
+    // Opened directly (rendered on the server), the list stays after hydration.
+    await page.goto('/outbox')
+    await page.waitForLoadState('networkidle')
+    expect(await page.getByTestId('outbox-list').locator('li').first().textContent()).toContain(inviteeEmail)
+    const pendingEmail = `browser-pending-${unique()}@fernhollow.example`
+    expect((await page.request.post('/api/invitations', { data: { email: pendingEmail, role: 'viewer' } })).status()).toBe(201)
+    await page.goto('/people')
+    await page.waitForLoadState('networkidle')
+    expect(await page.getByTestId(`invitation-${inviteeEmail}`).count()).toBe(0)
+    expect(await page.getByTestId(`invitation-${pendingEmail}`).count()).toBe(1)
   })
 
   it('forgot -> reset -> sign in', async () => {
