@@ -34,6 +34,10 @@ const ROUTES: RouteCase[] = [
   { file: 'outbox/index.get.ts', method: 'GET', path: '/api/outbox', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
   { file: 'outbox/[id]/retry.post.ts', method: 'POST', path: '/api/outbox/999999/retry', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
   { file: 'layouts/[id].get.ts', method: 'GET', path: '/api/layouts/999999', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/maintenance.get.ts', method: 'GET', path: '/api/layouts/999999/maintenance', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/maintenance/thresholds.put.ts', method: 'PUT', path: '/api/layouts/999999/maintenance/thresholds', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'layouts/[id]/cleanings.get.ts', method: 'GET', path: '/api/layouts/999999/cleanings', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/cleanings.post.ts', method: 'POST', path: '/api/layouts/999999/cleanings', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 400, admin: 400 } },
 ]
 
 function apiRouteFiles(dir: string): string[] {

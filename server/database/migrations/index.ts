@@ -1,6 +1,7 @@
 import * as initial from './0001-initial'
 import * as devicesAndEventKeys from './0002-devices-and-event-keys'
 import * as mailInvitationsResets from './0005-mail-invitations-resets'
+import * as trackCleaning from './0010-track-cleaning'
 
 /**
  * Every migration, in order. Listed by hand (not globbed) so the same list works under tsx and inside the
@@ -10,4 +11,5 @@ export const migrations = [
   { name: '0001-initial', ...initial },
   { name: '0002-devices-and-event-keys', ...devicesAndEventKeys },
   { name: '0005-mail-invitations-resets', ...mailInvitationsResets },
+  { name: '0010-track-cleaning', ...trackCleaning },
 ]

@@ -1,0 +1,35 @@
+// The Maintenance screen in Debian's chromium on a touch tablet: record a cleaning by tapping the blocks'
+// rows, see them return to "OK". Fails on any console error (hydration warnings included).
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { DEMO } from '../support/http-client'
+import { openBrowser, screenshot, signInThroughForm, type BrowserSession } from '../support/browser'
+
+describe('Maintenance screen', () => {
+  let browser: BrowserSession
+  const consoleErrors: string[] = []
+  beforeAll(async () => {
+    browser = await openBrowser({ width: 1024, height: 768 })
+    browser.page.on('console', (m) => { if (m.type() === 'error' || /hydration/i.test(m.text())) consoleErrors.push(m.text()) })
+  })
+  afterAll(async () => { await browser?.close() })
+
+  it('records a cleaning of two blocks picked by tapping their rows, loaded by URL', async () => {
+    const { page } = browser
+    await signInThroughForm(page, DEMO.signaller.email, DEMO.signaller.password)
+    await page.waitForURL('**/panel')
+    await page.goto('/maintenance')
+    await expect.poll(() => page.getByTestId('maintenance-blocks').count()).toBe(1)
+    await expect(page.getByTestId('cautions').textContent()).resolves.toMatch(/flammable/)
+    await page.getByLabel(/^Pick DM1 /).click()
+    await page.getByLabel(/^Pick DM2 /).click()
+    await expect.poll(() => page.getByTestId('picked').textContent()).toContain('DM1, DM2')
+    await screenshot(page, 'maintenance-1024x768')
+    await page.getByTestId('record').click()
+    await expect.poll(() => page.getByRole('status').first().textContent()).toContain('Cleaning of DM1, DM2 recorded.')
+    await expect.poll(() => page.getByTestId('block-DM1').getAttribute('data-state')).toBe('ok')
+    expect(await page.getByTestId('block-DM1').textContent()).not.toContain('never')
+    await expect.poll(() => page.getByTestId('cleanings').textContent()).toContain('DM1, DM2')
+    await screenshot(page, 'maintenance-recorded-1024x768')
+    expect(consoleErrors).toEqual([])
+  })
+})
