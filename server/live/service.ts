@@ -4,7 +4,7 @@ import mqtt, { type MqttClient } from 'mqtt'
 import { validateLayout } from '#shared/signalling'
 import type { ServerMessage } from '#shared/live/protocol'
 import type { Database } from '../database/connection'
-import { verifyPasswordOutsideNitro } from '../database/password-hash'
+import { hashPasswordOutsideNitro, verifyPasswordOutsideNitro } from '../database/password-hash'
 import { startBroker, type RunningBroker } from './broker'
 import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
@@ -43,7 +43,7 @@ const log = (message: string) => console.log(`[blockbell] ${message}`)
 export class LiveService {
   readonly hub = new PanelHub()
   readonly runtimes = new Map<string, LayoutRuntime>()
-  readonly counters = { mqttRejected: 0 }
+  readonly counters = { mqttRejected: 0, mqttTimeReplaced: 0 }
   private broker: RunningBroker | null = null
   private client: MqttClient | null = null
   private journal: Journal
@@ -62,6 +62,7 @@ export class LiveService {
     // Entries a previous run left in the spill file go in first, so the restored state includes them.
     await this.journal.flush()
     await this.loadLayouts()
+    this.dummyHash = hashPasswordOutsideNitro(randomBytes(18).toString('base64'))
     const internal = { username: 'blockbell-server', password: randomBytes(24).toString('hex') }
     let url = this.settings.mqttUrl
     if (!url) {
@@ -100,10 +101,25 @@ export class LiveService {
     }
   }
 
-  private async checkDevice(username: string, password: string): Promise<boolean> {
+  private dummyHash: Promise<string> | null = null
+
+  /**
+   * The device's layout (null: every layout) when its username and password are right. An unknown name
+   * checks the password against a hash of a random one, so it takes as long as a known name.
+   */
+  private async checkDevice(username: string, password: string): Promise<{ layout: string | null } | false> {
     const device = await this.db.models.Device.findOne({ where: { username } })
-    if (!device || device.disabledAt) return false
-    return verifyPasswordOutsideNitro(device.passwordHash, password)
+    this.dummyHash ??= hashPasswordOutsideNitro(randomBytes(18).toString('base64'))
+    const right = await verifyPasswordOutsideNitro(device?.passwordHash ?? await this.dummyHash, password)
+    if (!device || !right || device.disabledAt) return false
+    if (device.layoutId === null) return { layout: null }
+    const layout = await this.db.models.Layout.findByPk(device.layoutId)
+    return layout ? { layout: layout.slug } : false
+  }
+
+  /** Ends the device's MQTT connections at once (after it is disabled or given a new password). */
+  disconnectDevice(username: string): void {
+    this.broker?.disconnectDevice(username)
   }
 
   private connectBridge(url: string, credentials: { username?: string, password?: string }): void {
@@ -136,6 +152,10 @@ export class LiveService {
       if (input.kind === 'detector') {
         const parsed = parseDetectorPayload(payload)
         if (!parsed.ok) return reject(parsed.reason)
+        if (parsed.value.timeReplaced) {
+          this.counters.mqttTimeReplaced++
+          if (this.counters.mqttTimeReplaced <= 20 || this.counters.mqttTimeReplaced % 1000 === 0) log(`MQTT message on ${topic}: ${parsed.value.timeReplaced} (${this.counters.mqttTimeReplaced} so far)`)
+        }
         runtime.detectorInput(input.id, parsed.value.occupied, parsed.value.at)
       } else if (input.kind === 'turnout') {
         const parsed = parseTurnoutPayload(payload)
@@ -152,6 +172,8 @@ export class LiveService {
   }
 
   journalStats() { return this.journal.stats() }
+
+  journalSetAside(limit: number) { return this.journal.setAsideEntries(limit) }
 
   async close(): Promise<void> {
     for (const runtime of this.runtimes.values()) runtime.stop()

@@ -109,11 +109,11 @@ describe('detector to panel', () => {
 
   it('shows which controllers are online or offline', async () => {
     const panel = await LiveClient.as('viewer')
-    const offline = panel.change(c => c.type === 'device' && c.device === 'board-7' && !c.status.online)
-    await device.publishAsync(`${PREFIX}device/board-7/status`, 'offline', { retain: true })
+    const offline = panel.change(c => c.type === 'device' && c.device === 'fake-layout' && !c.status.online)
+    await device.publishAsync(`${PREFIX}device/fake-layout/status`, 'offline', { retain: true })
     await offline
-    expect((await panel.snapshot()).devices['board-7']?.online).toBe(false)
-    await device.publishAsync(`${PREFIX}device/board-7/status`, '', { retain: true })
+    expect((await panel.snapshot()).devices['fake-layout']?.online).toBe(false)
+    await device.publishAsync(`${PREFIX}device/fake-layout/status`, '', { retain: true })
     panel.close()
   })
 })

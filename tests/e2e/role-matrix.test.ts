@@ -23,6 +23,7 @@ const ROUTES: RouteCase[] = [
   { file: 'devices/index.get.ts', method: 'GET', path: '/api/devices', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
   { file: 'devices/index.post.ts', method: 'POST', path: '/api/devices', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
   { file: 'devices/[id].patch.ts', method: 'PATCH', path: '/api/devices/999999', body: { disabled: true }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'journal/set-aside.get.ts', method: 'GET', path: '/api/journal/set-aside', expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 200 } },
   { file: 'layouts/index.get.ts', method: 'GET', path: '/api/layouts', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
   { file: 'auth/forgot.post.ts', method: 'POST', path: '/api/auth/forgot', body: {}, expect: { anonymous: 400, viewer: 400, signaller: 400, admin: 400 } },
   { file: 'auth/reset.post.ts', method: 'POST', path: '/api/auth/reset', body: {}, expect: { anonymous: 400, viewer: 400, signaller: 400, admin: 400 } },
