@@ -3,6 +3,7 @@ import {
   type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize,
 } from 'sequelize'
 import type { Role } from '#shared/utils/roles'
+import type { OutboxState } from '#shared/types/mail'
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>
@@ -87,6 +88,44 @@ export class LayoutWiring extends Model<InferAttributes<LayoutWiring>, InferCrea
   declare deviceId: number
 }
 
+export class OutboxMessage extends Model<InferAttributes<OutboxMessage>, InferCreationAttributes<OutboxMessage>> {
+  declare id: CreationOptional<number>
+  declare kind: string
+  declare toAddress: string
+  declare subject: string
+  declare text: string
+  declare html: string
+  declare state: CreationOptional<OutboxState>
+  declare attempts: CreationOptional<number>
+  declare nextAttemptAt: CreationOptional<Date>
+  declare lastError: CreationOptional<string | null>
+  declare sentAt: CreationOptional<Date | null>
+  declare createdAt: CreationOptional<Date>
+}
+
+export class Invitation extends Model<InferAttributes<Invitation>, InferCreationAttributes<Invitation>> {
+  declare id: CreationOptional<number>
+  declare email: string
+  declare role: Role
+  declare tokenHash: string
+  declare invitedBy: ForeignKey<User['id']> | null
+  declare outboxId: CreationOptional<ForeignKey<OutboxMessage['id']> | null>
+  declare expiresAt: Date
+  declare acceptedAt: CreationOptional<Date | null>
+  declare acceptedUserId: CreationOptional<ForeignKey<User['id']> | null>
+  declare revokedAt: CreationOptional<Date | null>
+  declare createdAt: CreationOptional<Date>
+}
+
+export class PasswordReset extends Model<InferAttributes<PasswordReset>, InferCreationAttributes<PasswordReset>> {
+  declare id: CreationOptional<number>
+  declare userId: ForeignKey<User['id']>
+  declare tokenHash: string
+  declare expiresAt: Date
+  declare usedAt: CreationOptional<Date | null>
+  declare createdAt: CreationOptional<Date>
+}
+
 export interface Models {
   User: typeof User
   Layout: typeof Layout
@@ -96,6 +135,10 @@ export interface Models {
   Device: typeof Device
   EndedSession: typeof EndedSession
   LayoutWiring: typeof LayoutWiring
+
+  OutboxMessage: typeof OutboxMessage
+  Invitation: typeof Invitation
+  PasswordReset: typeof PasswordReset
 }
 
 const timestamps = { underscored: true, timestamps: true } as const
@@ -174,6 +217,42 @@ export function defineModels(sequelize: Sequelize): Models {
     deviceId: { type: DataTypes.INTEGER, allowNull: false },
   }, { sequelize, tableName: 'layout_wiring', underscored: true, timestamps: false })
 
+  OutboxMessage.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    kind: { type: DataTypes.STRING(32), allowNull: false },
+    toAddress: { type: DataTypes.STRING(254), allowNull: false },
+    subject: { type: DataTypes.STRING(200), allowNull: false },
+    text: { type: DataTypes.TEXT, allowNull: false },
+    html: { type: DataTypes.TEXT, allowNull: false },
+    state: { type: DataTypes.STRING(16), allowNull: false, defaultValue: 'queued' },
+    attempts: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+    nextAttemptAt: { type: DataTypes.DATE, allowNull: false, defaultValue: DataTypes.NOW },
+    lastError: { type: DataTypes.TEXT, allowNull: true },
+    sentAt: { type: DataTypes.DATE, allowNull: true },
+    createdAt: DataTypes.DATE,
+  }, { sequelize, tableName: 'outbox', underscored: true, timestamps: true, updatedAt: false })
+
+  Invitation.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    email: { type: DataTypes.STRING(254), allowNull: false },
+    role: { type: DataTypes.STRING(16), allowNull: false },
+    tokenHash: { type: DataTypes.STRING(64), allowNull: false, unique: true },
+    outboxId: { type: DataTypes.INTEGER, allowNull: true },
+    expiresAt: { type: DataTypes.DATE, allowNull: false },
+    acceptedAt: { type: DataTypes.DATE, allowNull: true },
+    acceptedUserId: { type: DataTypes.INTEGER, allowNull: true },
+    revokedAt: { type: DataTypes.DATE, allowNull: true },
+    createdAt: DataTypes.DATE,
+  }, { sequelize, tableName: 'invitations', underscored: true, timestamps: true, updatedAt: false })
+
+  PasswordReset.init({
+    id: { type: DataTypes.INTEGER, primaryKey: true, autoIncrement: true },
+    tokenHash: { type: DataTypes.STRING(64), allowNull: false, unique: true },
+    expiresAt: { type: DataTypes.DATE, allowNull: false },
+    usedAt: { type: DataTypes.DATE, allowNull: true },
+    createdAt: DataTypes.DATE,
+  }, { sequelize, tableName: 'password_resets', underscored: true, timestamps: true, updatedAt: false })
+
   Layout.hasMany(LayoutVersion, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(Layout, { foreignKey: 'layoutId' })
   LayoutVersion.belongsTo(User, { foreignKey: 'createdBy', as: 'author' })
@@ -185,6 +264,9 @@ export function defineModels(sequelize: Sequelize): Models {
   JournalEvent.belongsTo(User, { foreignKey: 'userId' })
   Device.belongsTo(Layout, { foreignKey: 'layoutId' })
   EndedSession.belongsTo(User, { foreignKey: 'userId' })
+  Invitation.belongsTo(User, { foreignKey: 'invitedBy', as: 'inviter' })
+  Invitation.belongsTo(OutboxMessage, { foreignKey: 'outboxId', as: 'mail' })
+  PasswordReset.belongsTo(User, { foreignKey: 'userId' })
 
-  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device, EndedSession, LayoutWiring }
+  return { User, Layout, LayoutVersion, OperatingSession, JournalEvent, Device, EndedSession, LayoutWiring, OutboxMessage, Invitation, PasswordReset }
 }
