@@ -20,6 +20,7 @@ const rev = (run: DemoRun, t: string) => run.state.turnoutRevisions[t]!
 describe('throw requests', () => {
   it('a commanded throw changes nothing until the turnout reports: no state change, no signal cleared, no retained indication', () => {
     const { run, rt } = demo()
+    run.areas = { main: RHEA, branch: TAM } // T2 lies in UM3, on the Main line area
     // T2 (in UM3) lies normal: SB3 (branch up, JU -> UM3) shows danger, its route not set
     run.hold('SU2') // release T2 from SU2's route lock (SU2 reads over UM3)
     const before = structuredClone(run.state)
@@ -66,6 +67,7 @@ describe('lock refusals', () => {
 
   it('refuses a throw under a signal reading over it, naming the aspect and what to do first', () => {
     const { run, rt } = demo()
+    run.areas = { main: RHEA, branch: TAM } // T2 lies in UM3, on the Main line area
     // SU2 (Quillbury up starter, UM2 -> UM3) reads over T2 in UM3; with 1F42-like traffic in UM4 it shows caution
     run.occupy('UM4')
     expect(run.snapshot().state.indications.SU2!.aspect).toBe('caution')
