@@ -1,10 +1,14 @@
 // Blockbell application configuration. Root-level layout: pages/, components/, stores/ at the top.
+import { fileURLToPath } from 'node:url'
 import { SCRYPT_OPTIONS } from './server/database/scrypt-options'
 import { themes } from './tailwind.config'
 import { THEME_BOOT_SCRIPT } from './shared/theme/boot'
 
+// Nuxt installs its own error handler only when none is set: list ours first, then Nuxt's.
+const nuxtErrorHandler = fileURLToPath(new URL('./node_modules/@nuxt/nitro-server/dist/runtime/handlers/error.mjs', import.meta.url))
+
 export default defineNuxtConfig({
-  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint'],
+  modules: ['@pinia/nuxt', '@nuxtjs/tailwindcss', 'nuxt-auth-utils', '@nuxt/eslint', 'nuxt-security'],
   devtools: { enabled: false },
   app: {
     head: {
@@ -33,10 +37,49 @@ export default defineNuxtConfig({
   dir: { app: 'app' },
   srcDir: '.',
   compatibilityDate: '2025-07-15',
-  nitro: { experimental: { websocket: true } },
+  nitro: {
+    experimental: { websocket: true },
+    errorHandler: ['~/server/error-handler', nuxtErrorHandler],
+  },
   typescript: { strict: true },
   telemetry: false,
   auth: { hash: { scrypt: SCRYPT_OPTIONS } },
   // Lint and format in one: @nuxt/eslint's stylistic rules (no Prettier).
   eslint: { config: { stylistic: { quotes: 'single', semi: false, commaDangle: 'always-multiline', braceStyle: '1tbs' } } },
+  // Security headers (nuxt-security). The CSP admits only this server's scripts and Nuxt's own inline
+  // scripts (each page carries a fresh nonce). Plain http stays usable on a layout room's network: no
+  // upgrade-insecure-requests and no HSTS here (a reverse proxy serving https may add HSTS itself).
+  security: {
+    nonce: true,
+    headers: {
+      contentSecurityPolicy: {
+        'default-src': ['\'self\''],
+        'script-src': ['\'self\'', '\'strict-dynamic\'', '\'nonce-{{nonce}}\''],
+        'script-src-attr': ['\'none\''],
+        // Vue renders style="…" attributes (diagram positions) on the server.
+        'style-src': ['\'self\'', '\'unsafe-inline\''],
+        'img-src': ['\'self\'', 'data:'],
+        'font-src': ['\'self\''],
+        // The panels' WebSocket /live (ws: and wss: for browsers where 'self' does not cover them).
+        'connect-src': ['\'self\'', 'ws:', 'wss:'],
+        'object-src': ['\'none\''],
+        'base-uri': ['\'none\''],
+        'form-action': ['\'self\''],
+        'frame-ancestors': ['\'none\''],
+        'upgrade-insecure-requests': false,
+      },
+      xFrameOptions: 'DENY',
+      xContentTypeOptions: 'nosniff',
+      referrerPolicy: 'no-referrer',
+      strictTransportSecurity: false,
+    },
+    // Blockbell throttles sign-ins itself; a global request limit would cut off busy panels.
+    rateLimiter: false,
+    // Request bodies are validated with zod and output is escaped by Vue; this filter refuses ordinary text.
+    xssValidator: false,
+    // No cross-origin API: no CORS headers at all.
+    corsHandler: false,
+    // Browser tests read the console: keep console calls in the client build.
+    removeLoggers: false,
+  },
 })

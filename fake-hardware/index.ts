@@ -2,12 +2,12 @@ import mqtt from 'mqtt'
 import type { Aspect } from '#shared/signalling'
 import type { Layout } from '#shared/schemas/layout'
 import { loadLayout, loadPlans, loadScript } from './load'
-import { parseIndication, parseTurnoutRequest, relativeTopic } from './messages'
+import { parseAreaHeld, parseIndication, parseOverride, parseTurnoutRequest, relativeTopic } from './messages'
 import { parseOptions, USAGE, type FakeOptions } from './options'
 import type { StepResult } from './output'
 import { ScriptPlayer } from './script'
 import { Simulation } from './simulation'
-import { HARDWARE_FILTERS, layoutPrefix, layoutTopic, relative, signalOf, turnoutSetOf } from '#shared/live/topics'
+import { areaOf, HARDWARE_FILTERS, layoutPrefix, layoutTopic, relative, signalOf, turnoutSetOf } from '#shared/live/topics'
 
 /**
  * The fake layout process: connects to the MQTT broker as the device `fake-layout` and runs either the train
@@ -66,11 +66,20 @@ function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log): Mode {
       for (const p of sim.snapshot()) send(p)
     },
     onMessage(topic, payload) {
+      const area = areaOf(topic)
+      if (area) {
+        const held = parseAreaHeld(payload)
+        if (held !== null) emit(sim.setAreaHeld(area, held))
+        return
+      }
       const id = signalOf(topic)
       if (id) {
-        if (payload === '') delete aspects[id]
-        else {
+        if (payload === '') {
+          delete aspects[id]
+          sim.setOverride(id, null)
+        } else {
           const aspect = parseIndication(payload)
+          sim.setOverride(id, parseOverride(payload))
           if (aspect) aspects[id] = aspect
           else if (!badSignals.has(id)) {
             badSignals.add(id)

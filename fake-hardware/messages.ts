@@ -21,6 +21,22 @@ export function parseIndication(payload: string): Aspect | null {
   return typeof aspect === 'string' && ASPECTS.includes(aspect) ? (aspect as Aspect) : null
 }
 
+/** The override of a `signal/<id>` indication (hold, auto or clear), or null. */
+export function parseOverride(payload: string): string | null {
+  const v = json(payload)
+  if (typeof v !== 'object' || v === null) return null
+  const override = (v as { override?: unknown }).override
+  return override === 'hold' || override === 'auto' || override === 'clear' ? override : null
+}
+
+/** An `area/<id>` message: JSON `{"held": true|false}`. */
+export function parseAreaHeld(payload: string): boolean | null {
+  const v = json(payload)
+  if (typeof v !== 'object' || v === null) return null
+  const held = (v as { held?: unknown }).held
+  return typeof held === 'boolean' ? held : null
+}
+
 export interface TurnoutRequest {
   position: 'normal' | 'reverse'
   by: string | null

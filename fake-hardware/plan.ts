@@ -26,6 +26,8 @@ export type RouteStep = z.output<typeof RouteStep>
 
 export const TrainPlan = z.object({
   headcode: z.string().regex(HEADCODE, 'a headcode is a digit, a capital letter and two digits, e.g. 1F42'),
+  /** Decoder address of its locomotive, reported by the detectors it occupies (as RailCom detectors do). */
+  address: z.number().int().min(1).max(10239).optional(),
   /** A few words for the log, e.g. "up express". */
   name: z.string().trim().max(60).optional(),
   /** Length of the train on the model, in millimetres. */

@@ -1,6 +1,6 @@
 import type { Layout } from '#shared/schemas/layout'
-import { scaleSpeed, type Aspect } from '#shared/signalling'
-import { needsThrough, placeKey, topologyOf, type Topology, type TurnoutNeed } from '#shared/signalling/topology'
+import { lockOf, scaleSpeed, type Aspect, type TurnoutLock } from '#shared/signalling'
+import { needsThrough, placeKey, topologyOf, traceSection, type Topology, type TurnoutNeed } from '#shared/signalling/topology'
 import { Output, type StepResult } from './output'
 import type { RouteStep, TrainPlan } from './plan'
 import { createRandom, type Random } from './random'
@@ -17,9 +17,12 @@ import { relative } from '#shared/live/topics'
  * - A train never enters a block another train occupies, whatever the signals show; it waits.
  * - It stops at the end of its block when the stop signal there shows danger (or nothing yet), and with
  *   `spadChance` per such stop runs past it instead, if the block ahead is free.
- * - It sets the turnouts of its route up to the block of the next signal ahead as soon as it can (a turnout
- *   under a train or claimed by another train is left alone), and never enters a block whose turnouts are
- *   not set for it. A turnout thrown on request is left as it is by the trains for `OPERATOR_HOLD_MS`.
+ * - It sets the turnouts of its route up to the block of the next signal ahead as soon as it can, and never
+ *   enters a block whose turnouts are not set for it. Like a layout with an interlocking, it leaves alone a
+ *   turnout that is locked (shared/signalling/locking.ts: its block occupied or cleared only just now, or a
+ *   stop signal that is or may be off reading over it), one claimed by another train, and every turnout of
+ *   an area a signaller holds: there the train waits at its signal until the signaller sets the route. A
+ *   turnout thrown on request is left as it is by the trains for `OPERATOR_HOLD_MS`.
  */
 
 export interface SimulationOptions {
@@ -56,6 +59,11 @@ export interface TrainView {
 }
 
 export const OPERATOR_HOLD_MS = 30_000
+/**
+ * A block the trains have just left still counts as occupied for locking this long: Blockbell holds a
+ * detector's clear for a moment (300 ms by default) and the message takes its time.
+ */
+export const CLEAR_MARGIN_MS = 1500
 const LIFT_MS = 4000
 
 type Decision = { kind: 'go', spad: string | null } | { kind: 'wait', reason: string } | { kind: 'reverse' } | { kind: 'lift' }
@@ -113,6 +121,14 @@ export class Simulation {
   private readonly positions = new Map<string, 'normal' | 'reverse'>()
   private readonly claimedBy = new Map<string, Train>()
   private readonly operatorAt = new Map<string, number>()
+  private readonly clearedAt = new Map<string, number>()
+  private readonly heldAreas = new Set<string>()
+  private readonly areaOfTurnout = new Map<string, string>()
+  private readonly overrides = new Map<string, string>()
+  /** Why each turnout a train wanted could not be set, for the wait reason. */
+  private readonly notSetWhy = new Map<string, string>()
+  private starting = false
+  private aspects: Readonly<Record<string, Aspect>> = {}
   private dropouts: Dropout[] = []
   private now = 0
   private started = false
@@ -127,6 +143,7 @@ export class Simulation {
     this.speedVariation = options.speedVariation ?? 0.1
     this.tickMs = options.tickMs ?? 10
     for (const t of layout.turnouts) this.positions.set(t.id, 'normal')
+    for (const a of layout.areas) for (const t of a.turnouts) if (!this.areaOfTurnout.has(t)) this.areaOfTurnout.set(t, a.id)
     this.trains = plans.map((plan) => {
       const baseSpeed = modelMmPerSecond(plan.speedKmh, layout.scale.ratio) * this.speedFactor
       const first = this.blockLength(plan.route[0]!.block)
@@ -172,9 +189,30 @@ export class Simulation {
       t.rearIndex = rear
       for (const b of blocks) this.owner.set(b, t)
     }
+    // first routes are set before anything is reported: Blockbell then sees them already lying so
+    this.starting = true
+    const claims = new Output()
+    for (const t of this.trains) this.claimAhead(t, claims)
+    this.starting = false
+    out.log.push(...claims.log)
     out.publishes.push(...this.snapshot())
-    for (const t of this.trains) this.claimAhead(t, out)
     return out
+  }
+
+  /** Whether a signaller holds an area (from Blockbell's `area/<id>`): its turnouts are then theirs to set. */
+  setAreaHeld(area: string, held: boolean): StepResult {
+    const out = new Output()
+    if (held === this.heldAreas.has(area)) return out
+    if (held) this.heldAreas.add(area)
+    else this.heldAreas.delete(area)
+    out.say(this.now, held ? `area ${area} is held by a signaller: its turnouts are left to them` : `area ${area} is free again: trains set its turnouts`)
+    return out
+  }
+
+  /** The override a signal's indication reported (hold, auto or clear), for judging locks. */
+  setOverride(signal: string, override: string | null): void {
+    if (override) this.overrides.set(signal, override)
+    else this.overrides.delete(signal)
   }
 
   /** Current state of every turnout and detector as publishes (e.g. to resend after reconnecting). */
@@ -182,7 +220,7 @@ export class Simulation {
     const out = new Output()
     for (const [id, pos] of this.positions) out.publish(this.now, relative.turnout(id), pos, true)
     for (const b of this.layout.blocks) {
-      for (const d of b.detectors) out.publish(this.now, relative.detector(d), this.owner.has(b.id) ? '1' : '0')
+      for (const d of b.detectors) out.publish(this.now, relative.detector(d), this.owner.has(b.id) ? occupiedPayload(this.owner.get(b.id)!) : '0')
     }
     return out.publishes
   }
@@ -195,6 +233,7 @@ export class Simulation {
     if (!this.started) throw new Error('call start() first')
     const out = new Output()
     let left = dtMs
+    this.aspects = aspects
     while (left > 0) {
       const dt = Math.min(this.tickMs, left)
       left -= dt
@@ -322,7 +361,10 @@ export class Simulation {
     if (next.block === prev.block && !here.lift && t.reversedAt !== t.index) return { kind: 'reverse' }
     if (ahead && ahead !== t) return { kind: 'wait', reason: `${next.block} is occupied by ${ahead.plan.headcode}` }
     for (const need of this.movesInto(t)) {
-      if (this.positions.get(need.turnout.id) !== this.wanted(need)) return { kind: 'wait', reason: `${need.turnout.id} is not set for ${need.leg}` }
+      if (this.positions.get(need.turnout.id) !== this.wanted(need)) {
+        const why = this.notSetWhy.get(need.turnout.id)
+        return { kind: 'wait', reason: `${need.turnout.id} is not set for ${need.leg}${why ? ` (${why})` : ''}` }
+      }
     }
     const sig = this.topo.stopAt.get(placeKey(here.block, next.block))
     if (!sig || this.ignoreSignals) return { kind: 'go', spad: null }
@@ -356,15 +398,16 @@ export class Simulation {
 
   /** Claims, and sets where it may, the turnouts of the route from the train's block to the next signal's. */
   private claimAhead(t: Train, out: Output): void {
-    if (t.mode === 'lifting') return
-    for (let k = t.index; k < t.index + 12; k++) {
+    // a train lifted off sets the turnouts it needs where it will be set down, while that block is free
+    const from = t.mode === 'lifting' ? t.index + 1 : t.index
+    for (let k = from; k < from + 12; k++) {
       const cur = this.stepAt(t, k)
-      if (k > t.index && cur.lift) return
+      if (k > from && cur.lift) return
       const nextStep = this.stepAt(t, k + 1)
       const next = nextStep.lift ? null : nextStep.block
       const prev = cur.lift ? null : this.stepAt(t, k - 1).block
       for (const need of needsThrough(this.topo, cur.block, prev, next)) {
-        if (k === t.index && !need.facing) continue
+        if (k === from && !need.facing && t.mode !== 'lifting') continue
         this.claim(t, need, k, out)
       }
       if (next === null) return
@@ -381,14 +424,46 @@ export class Simulation {
       if (holder === t && (t.claims.get(id) ?? -1) < k) return // still needed the other way for an earlier step
       const operator = this.operatorAt.get(id)
       if (operator !== undefined && this.now - operator < OPERATOR_HOLD_MS) return
-      const under = this.owner.get(need.turnout.block)
-      if (under && !(under === t && k === t.index && need.facing)) return
+      const area = this.areaOfTurnout.get(id)
+      if (area && this.heldAreas.has(area)) {
+        this.notSetWhy.set(id, `left to the signaller holding ${area}`)
+        return
+      }
+      const lock = this.starting ? null : this.lock(id)
+      if (lock) {
+        this.notSetWhy.set(id, lock.reason === 'occupied' ? `locked: ${lock.block} occupied` : `locked: ${lock.signal} reads over it`)
+        return
+      }
+      this.notSetWhy.delete(id)
       this.positions.set(id, want)
       out.publish(this.now, relative.turnout(id), want, true)
       out.say(this.now, `${id} set ${want} for ${t.plan.headcode}`)
     }
     this.claimedBy.set(id, t)
     t.claims.set(id, Math.max(k, t.claims.get(id) ?? k))
+  }
+
+  /**
+   * The turnout's lock as Blockbell may see it now: a block left within CLEAR_MARGIN_MS still counts as
+   * occupied, and a stop signal counts as off if its last indication was off or if, as far as the trains
+   * know, nothing holds it at danger (not held, its section free, its route set): its indication may be on
+   * the way. Ignoring signals (no Blockbell publishing indications), only track locking applies.
+   */
+  private lock(turnout: string): TurnoutLock {
+    const recently = (b: string) => this.owner.has(b) || this.now - (this.clearedAt.get(b) ?? -Infinity) < CLEAR_MARGIN_MS
+    const position = (id: string) => this.positions.get(id) ?? 'unknown'
+    return lockOf(this.topo, turnout, {
+      occupied: recently,
+      position,
+      aspect: (id) => {
+        if (this.ignoreSignals) return 'danger'
+        const shown = this.aspects[id]
+        if (shown !== undefined && shown !== 'danger') return shown
+        if (this.overrides.get(id) === 'hold') return 'danger'
+        const trace = traceSection(this.topo, this.topo.signalById.get(id)!, position)
+        return trace.routeSet && !trace.blocks.some((b) => this.owner.has(b)) ? 'proceed' : 'danger'
+      },
+    })
   }
 
   private releaseClaims(t: Train): void {
@@ -423,7 +498,7 @@ export class Simulation {
     t.blocks = blocks
     for (const b of entered) {
       this.owner.set(b, t)
-      this.report(b, '1', out)
+      this.report(b, occupiedPayload(t), out)
       out.say(this.now, `${t.plan.headcode} enters ${b}${this.detectorNote(b, '1')}`)
       this.maybeDropout(t, b)
     }
@@ -439,6 +514,7 @@ export class Simulation {
 
   private leave(t: Train, b: string, out: Output): void {
     if (this.owner.get(b) === t) this.owner.delete(b)
+    this.clearedAt.set(b, this.now)
     this.report(b, '0', out)
     out.say(this.now, `${t.plan.headcode} clears ${b}${this.detectorNote(b, '0')}`)
   }
@@ -448,7 +524,7 @@ export class Simulation {
     return ds.length ? ` (${ds.map((d) => `${d}=${payload}`).join(', ')})` : ' (no detector)'
   }
 
-  private report(block: string, payload: '0' | '1', out: Output): void {
+  private report(block: string, payload: string, out: Output): void {
     for (const d of this.topo.blockById.get(block)!.detectors) out.publish(this.now, relative.detector(d), payload)
   }
 
@@ -481,4 +557,9 @@ export class Simulation {
     }
     this.dropouts = keep
   }
+}
+
+/** What a detector under `t` reports: `1`, or with the train's decoder address when it has one. */
+function occupiedPayload(t: Train): string {
+  return t.plan.address === undefined ? '1' : JSON.stringify({ occupied: true, address: t.plan.address })
 }

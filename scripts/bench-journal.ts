@@ -4,6 +4,7 @@
 //                                                              (adds about 1.1 million events, removed at the end)
 // 1. Three ways to write a batch of 500, compared.  2. 2,000 events/s for 30 s through the journal, with a
 // count and order check.  3. A filtered page (layout + time range + type, LIMIT 100) of a 1,000,000-event log.
+// 4. A session of 1,000,000 events reviewed through the built server: log pages, replay, graph, CSV export.
 import { mkdtempSync, rmSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
@@ -17,6 +18,7 @@ import { createJournal, type JournalEntry } from '../server/live/journal'
 import { journalEntryKey, newJournalBootId, prepareJournalEntry, type JournalRecord } from '../server/live/journal-entry'
 import { insertJournalRecords } from '../server/live/journal-insert'
 import { startThrowawayPostgres, type ThrowawayPostgres } from '../tests/support/postgres'
+import { benchSessions } from './bench-sessions'
 
 const RATE = 2000
 const SECONDS = 30
@@ -137,8 +139,8 @@ async function pageQueries(probe: Sequelize, layoutId: number) {
     WHERE layout_id = :layoutId AND at >= :from AND at < :to AND type = :type
     ORDER BY at, id LIMIT 100`
   const cases = [
-    { label: "type 'detector' (70 %), 1-day window", type: 'detector', days: 1 },
-    { label: "type 'alarm' (1 %), 7-day window", type: 'alarm', days: 7 },
+    { label: 'type \'detector\' (70 %), 1-day window', type: 'detector', days: 1 },
+    { label: 'type \'alarm\' (1 %), 7-day window', type: 'alarm', days: 7 },
   ]
   for (const c of cases) {
     const times: number[] = []
@@ -160,6 +162,8 @@ async function pageQueries(probe: Sequelize, layoutId: number) {
 }
 
 async function main() {
+  // 4. A session's review on the built server (scripts/bench-sessions.ts): --sessions-only skips 1-3.
+  if (process.argv.includes('--sessions-only')) return benchSessions()
   const useEnv = process.argv.includes('--env')
   let cluster: ThrowawayPostgres | undefined
   let settings: DatabaseSettings
@@ -191,6 +195,7 @@ async function main() {
     await db.sequelize.close()
     await cluster?.destroy()
   }
+  if (!useEnv) await benchSessions()
 }
 
 main().catch((error) => { console.error(error); process.exitCode = 1 })

@@ -14,13 +14,16 @@ export PATH="$PATH:/usr/sbin"
 DB_PORT=${BLOCKBELL_TEST_DB_PORT:-54339}
 WEB_PORT=${BLOCKBELL_TEST_PORT:-3939}
 MQTT_TEST_PORT=${BLOCKBELL_TEST_MQTT_PORT:-18839}
+SMTP_TEST_PORT=${BLOCKBELL_TEST_SMTP_PORT:-2539}
 RUN_DIR=$(mktemp -d /var/tmp/blockbell-test.XXXXXX)
 chmod 755 "$RUN_DIR"
 SERVER_PID=
+FAKE_SMTP_PID=
 cleanup() {
   local rc=$?
   trap - EXIT
   if [ -n "$SERVER_PID" ]; then kill -TERM "$SERVER_PID" 2>/dev/null; wait "$SERVER_PID" 2>/dev/null; fi
+  if [ -n "$FAKE_SMTP_PID" ]; then kill -TERM "$FAKE_SMTP_PID" 2>/dev/null; wait "$FAKE_SMTP_PID" 2>/dev/null; fi
   pg_stop
   rm -rf "$RUN_DIR"
   exit "$rc"
@@ -31,10 +34,12 @@ trap 'exit 130' INT TERM
 port_free "$DB_PORT" || die "Port $DB_PORT is taken; set BLOCKBELL_TEST_DB_PORT to a free port."
 port_free "$WEB_PORT" || die "Port $WEB_PORT is taken; set BLOCKBELL_TEST_PORT to a free port."
 port_free "$MQTT_TEST_PORT" || die "Port $MQTT_TEST_PORT is taken; set BLOCKBELL_TEST_MQTT_PORT to a free port."
+port_free "$SMTP_TEST_PORT" || die "Port $SMTP_TEST_PORT is taken; set BLOCKBELL_TEST_SMTP_PORT to a free port."
 PG_EXTRA_OPTS="-c fsync=off -c synchronous_commit=off -c full_page_writes=off" pg_setup "$RUN_DIR/pg" "$DB_PORT"
 pg_create_db blockbell_e2e
 pg_create_db blockbell_db_tests
 pg_create_db blockbell_restart
+pg_create_db blockbell_panel_live
 
 export BLOCKBELL_DB_HOST=127.0.0.1 BLOCKBELL_DB_PORT="$PG_PORT" BLOCKBELL_DB_USER="$PG_USER" BLOCKBELL_DB_PASSWORD="$PG_PASSWORD"
 export BLOCKBELL_DB_TEST_NAME=blockbell_db_tests
@@ -42,6 +47,8 @@ export NUXT_SESSION_PASSWORD=$(random_secret)
 export BLOCKBELL_TEST_URL="http://127.0.0.1:$WEB_PORT"
 export BLOCKBELL_TEST_DATA="$RUN_DIR"
 export BLOCKBELL_TEST_MQTT_URL="mqtt://127.0.0.1:$MQTT_TEST_PORT"
+# The e2e server believes X-Forwarded-* only from 127.0.0.3 (a stand-in reverse proxy; tests/e2e/transport.test.ts).
+export BLOCKBELL_TRUSTED_PROXIES=127.0.0.3
 
 if [ "${BLOCKBELL_TEST_SKIP_BUILD:-0}" = 1 ] && [ -f .output/server/index.mjs ]; then
   log "Using the existing build in .output (BLOCKBELL_TEST_SKIP_BUILD=1)"
@@ -52,7 +59,15 @@ fi
 
 BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts up || die "migrations failed"
 BLOCKBELL_DB_NAME=blockbell_e2e ./node_modules/.bin/tsx server/database/cli.ts seed || die "seed failed"
-BLOCKBELL_DB_NAME=blockbell_e2e MQTT_PORT="$MQTT_TEST_PORT" BLOCKBELL_DATA_DIR="$RUN_DIR/data" HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' > "$RUN_DIR/server.log" 2>&1 &
+# The tests read what the server mails from the fake mail server's folder, so they always use it.
+[ -n "${SMTP_URL:-}" ] && log "SMTP_URL is ignored by the tests: mail goes to the local fake mail server"
+unset SMTP_URL
+export BLOCKBELL_TEST_MAIL_DIR="$RUN_DIR/mail"
+export BLOCKBELL_TEST_SMTP_PORT="$SMTP_TEST_PORT"
+start_fake_smtp "$SMTP_TEST_PORT" "$BLOCKBELL_TEST_MAIL_DIR" "$RUN_DIR/fake-smtp.log"
+# Short retry waits, so a refused message reaches "failed" within a test (3 attempts: 0.2 s, then 0.4 s apart).
+BLOCKBELL_DB_NAME=blockbell_e2e FAKE_SMTP_PORT="$SMTP_TEST_PORT" BLOCKBELL_MAIL_RETRY_MS=200 BLOCKBELL_MAIL_ATTEMPTS=3 \
+  BLOCKBELL_PUBLIC_URL="$BLOCKBELL_TEST_URL" MQTT_PORT="$MQTT_TEST_PORT" BLOCKBELL_DATA_DIR="$RUN_DIR/data" HOST=127.0.0.1 PORT="$WEB_PORT" sh -c 'exec node .output/server/index.mjs' > "$RUN_DIR/server.log" 2>&1 &
 SERVER_PID=$!
 wait_for_http "$BLOCKBELL_TEST_URL/api/health" 60 || { tail -30 "$RUN_DIR/server.log"; die "the test server did not start"; }
 

@@ -1,25 +1,13 @@
-import type { CleaningThresholds, DueState } from '#shared/maintenance/due'
+import type { CleaningThresholds } from '#shared/maintenance/due'
 import type { CleaningInput, ThresholdsInput } from '#shared/schemas/maintenance'
-
-export interface BlockMaintenanceView {
-  block: string
-  name: string
-  passages: number
-  occupiedSeconds: number
-  dropouts: number
-  lastCleanedAt: string | null
-  state: DueState
-  reasons: string[]
-}
-
-export interface CleaningView { id: number, blocks: string[], method: string, notes: string | null, at: string, by: string | null }
+import type { BlockMaintenance, CleaningRecord } from '#shared/types/maintenance'
 
 /** Track cleaning of one layout: each block's use since its last cleaning, the thresholds and the history. */
 export const useMaintenanceStore = defineStore('maintenance', () => {
   const layoutId = ref<number | null>(null)
-  const blocks = ref<BlockMaintenanceView[]>([])
+  const blocks = ref<BlockMaintenance[]>([])
   const thresholds = ref<CleaningThresholds | null>(null)
-  const cleanings = ref<CleaningView[]>([])
+  const cleanings = ref<CleaningRecord[]>([])
   const loading = ref(false)
   const loadError = ref<string | null>(null)
 
@@ -29,8 +17,8 @@ export const useMaintenanceStore = defineStore('maintenance', () => {
     loadError.value = null
     try {
       const [m, c] = await Promise.all([
-        $fetch<{ blocks: BlockMaintenanceView[], thresholds: CleaningThresholds }>(`/api/layouts/${id}/maintenance`),
-        $fetch<{ cleanings: CleaningView[] }>(`/api/layouts/${id}/cleanings`),
+        $fetch<{ blocks: BlockMaintenance[], thresholds: CleaningThresholds }>(`/api/layouts/${id}/maintenance`),
+        $fetch<{ cleanings: CleaningRecord[] }>(`/api/layouts/${id}/cleanings`),
       ])
       blocks.value = m.blocks
       thresholds.value = m.thresholds

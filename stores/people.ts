@@ -25,5 +25,7 @@ export const usePeopleStore = defineStore('people', () => {
     return person
   }
 
-  return { people: readonly(people), loaded, load, create, update }
+  // `people` is returned as a plain ref: Pinia restores server-rendered state into returned refs when the
+  // page hydrates, and silently skips a readonly one (the list rendered on the server would then vanish).
+  return { people, loaded, load, create, update }
 })

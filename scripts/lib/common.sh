@@ -24,11 +24,13 @@ ensure_node_modules() {
 }
 
 ensure_test_packages() {
-  # Debian's chromium (browser tests) and mosquitto + mosquitto_pub (MQTT interoperability tests).
+  # Debian's chromium (browser tests), mosquitto + mosquitto_pub (MQTT interoperability tests), poppler-utils.
   local missing=()
   command -v chromium >/dev/null 2>&1 || missing+=(chromium fonts-dejavu-core)
   command -v mosquitto >/dev/null 2>&1 || [ -x /usr/sbin/mosquitto ] || missing+=(mosquitto)
   command -v mosquitto_pub >/dev/null 2>&1 || missing+=(mosquitto-clients)
+  # pdftoppm: the printed wiring schedule's PDF pages as pictures, to look at
+  command -v pdftoppm >/dev/null 2>&1 || missing+=(poppler-utils)
   [ ${#missing[@]} = 0 ] || { log "Installing Debian packages for the tests: ${missing[*]}"; apt_install "${missing[@]}"; }
 }
 
@@ -45,3 +47,18 @@ wait_for_http() {
 }
 
 random_secret() { head -c 48 /dev/urandom | base64 | tr -d '/+=\n' | head -c 48; }
+
+start_fake_smtp() {
+  # start_fake_smtp <port> <folder> <log file>: the local fake mail server (scripts/fake-smtp.ts) in the
+  # background; sets FAKE_SMTP_PID and waits until it listens.
+  local port=$1 dir=$2 logfile=$3
+  mkdir -p "$dir"
+  sh -c 'exec ./node_modules/.bin/tsx scripts/fake-smtp.ts --port "$1" --dir "$2"' fake-smtp "$port" "$dir" > "$logfile" 2>&1 &
+  FAKE_SMTP_PID=$!
+  for _ in $(seq 1 80); do
+    port_free "$port" || return 0
+    kill -0 "$FAKE_SMTP_PID" 2>/dev/null || { tail -20 "$logfile"; die "the fake mail server did not start"; }
+    sleep 0.25
+  done
+  die "the fake mail server did not answer on port $port"
+}

@@ -1,5 +1,8 @@
-// Liveness for scripts and monitors: says whether the database answers. Public, reveals nothing else.
-export default defineEventHandler(async () => {
+// Liveness for scripts and monitors: whether the database answers and the journal is writing. Public: it
+// gives states and one count, nothing else. 503 while the journal is stalled.
+export default defineEventHandler(async (event) => {
   const database = await useDatabase().sequelize.authenticate().then(() => 'up', () => 'down')
-  return { status: 'ok', database }
+  const journal = journalHealth(useLive().journalStats())
+  if (journal.status !== 'ok') setResponseStatus(event, 503)
+  return { status: journal.status === 'ok' ? 'ok' : 'degraded', database, journal: { status: journal.status, setAside: journal.setAside } }
 })

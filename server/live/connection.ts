@@ -1,6 +1,7 @@
 import type { Peer } from 'crossws'
 import { ClientMessage, MAX_MESSAGE_BYTES, type LiveUser, type ServerMessage } from '#shared/live/protocol'
 import { describeIssues } from '../utils/validation'
+import type { LiveSession } from '../utils/live-auth'
 import type { LiveService } from './service'
 
 const RATE_PER_SECOND = 20
@@ -12,7 +13,20 @@ export class PanelConnection {
   private tokens = BURST
   private refilledAt = Date.now()
 
-  constructor(readonly peer: Peer, public user: LiveUser, private readonly live: LiveService, private readonly recheckUser: () => Promise<LiveUser | null>) {}
+  constructor(
+    readonly peer: Peer,
+    public user: LiveUser,
+    readonly session: LiveSession,
+    private readonly live: LiveService,
+    private readonly recheckUser: () => Promise<LiveUser | null>,
+  ) {}
+
+  /** Ends this panel's link because its session has ended (sign-out, password, disable, role change). */
+  end(): void {
+    this.send({ type: 'error', message: 'Your session has ended. Sign in again.' })
+    this.leave()
+    this.peer.close(4001, 'session ended')
+  }
 
   send(message: ServerMessage): void { this.peer.send(JSON.stringify(message)) }
 
@@ -26,6 +40,9 @@ export class PanelConnection {
   }
 
   async receive(raw: string): Promise<void> {
+    // Every message is checked against the account's session version known in this process; commands
+    // also read the account from the database.
+    if (!this.live.sessionCurrent(this.session)) return this.end()
     if (!this.allow()) return this.send({ type: 'error', message: `Too many messages: at most ${RATE_PER_SECOND} a second.` })
     if (Buffer.byteLength(raw) > MAX_MESSAGE_BYTES) return this.send({ type: 'error', message: `Message too large: at most ${MAX_MESSAGE_BYTES} bytes.` })
     let data: unknown
@@ -45,13 +62,18 @@ export class PanelConnection {
         const runtime = this.slug ? this.live.runtime(this.slug) : undefined
         if (!runtime) return this.send({ type: 'command-result', id: message.id, ok: false, reason: 'Subscribe to a layout first.' })
         // The role and the account are checked again for every command: a change by an admin takes effect at once.
-        const current = await this.recheckUser()
+        let current: LiveUser | null
+        try {
+          current = await this.recheckUser()
+        } catch {
+          return this.send({ type: 'command-result', id: message.id, ok: false, reason: 'The database is not reachable just now, so the command cannot be checked; nothing was changed. Try again in a moment.' })
+        }
         if (!current) {
-          this.send({ type: 'command-result', id: message.id, ok: false, reason: 'This account has been disabled.' })
-          return this.peer.close(4001, 'account disabled')
+          this.send({ type: 'command-result', id: message.id, ok: false, reason: 'Your session has ended (account disabled or access changed). Sign in again.' })
+          return this.end()
         }
         this.user = current
-        const verdict = runtime.command(current, message.command)
+        const verdict = runtime.command(current, message.command, message.madeAt)
         return this.send(verdict.ok ? { type: 'command-result', id: message.id, ok: true } : { type: 'command-result', id: message.id, ok: false, reason: verdict.reason })
       }
     }

@@ -25,5 +25,15 @@ export class PanelHub {
     }
   }
 
+  /** Sends one message to every panel of every layout (the heartbeat), serialised once. */
+  broadcastAll(message: ServerMessage): void {
+    const text = JSON.stringify(message)
+    for (const peers of this.byLayout.values()) {
+      for (const peer of peers) {
+        try { peer.send(text) } catch { peers.delete(peer) }
+      }
+    }
+  }
+
   count(slug: string): number { return this.byLayout.get(slug)?.size ?? 0 }
 }

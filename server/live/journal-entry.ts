@@ -33,6 +33,18 @@ export function journalEntryKey(bootId: string, seq: number): string {
   return `${bootId}-${seq.toString(36)}`
 }
 
+// The instants a row can carry: PostgreSQL reads the time as an ISO string, and JavaScript writes years past
+// 9999 in an extended form (+275760-...) that it does not take; times past JavaScript's range cannot be written.
+const EARLIEST_AT = Date.parse('0001-01-01T00:00:00.000Z')
+const LATEST_AT = Date.parse('9999-12-31T23:59:59.999Z')
+
+/** Why a time cannot be stored, or null when it can. */
+export function journalTimeProblem(at: unknown): string | null {
+  if (typeof at !== 'number' || !Number.isFinite(at)) return `time ${String(at)} is not a number`
+  if (at < EARLIEST_AT || at > LATEST_AT) return `time ${at} is outside the years 1 to 9999`
+  return null
+}
+
 // PostgreSQL text and jsonb cannot hold the character U+0000; it becomes U+FFFD rather than cost the entry.
 const NUL = /\u0000/g
 const NUL_ESCAPE = /(?<!\\)((?:\\\\)*)\\u0000/g // \u0000 in JSON text, not preceded by an escaped backslash
@@ -70,7 +82,8 @@ export function prepareJournalEntry(entry: JournalEntry, seq: number, key: strin
   let subject = entry.subject == null ? null : withoutNul(String(entry.subject), 'subject', problems)
   if (subject !== null && subject.length > SUBJECT_MAX) { problems.push(`subject cut to ${SUBJECT_MAX} characters`); subject = subject.slice(0, SUBJECT_MAX) }
   let at = Number(entry.at)
-  if (!Number.isFinite(at)) { problems.push('time was not a number; the append time is used'); at = Date.now() }
+  const timeProblem = journalTimeProblem(at)
+  if (timeProblem) { problems.push(`${timeProblem}; the append time is used`); at = Date.now() }
   const stored: JournalRecord = {
     seq,
     key,

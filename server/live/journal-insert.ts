@@ -1,5 +1,5 @@
 import { QueryTypes, type Sequelize } from 'sequelize'
-import type { JournalRecord } from './journal-entry'
+import { journalTimeProblem, type JournalRecord } from './journal-entry'
 
 /**
  * One INSERT for a whole batch: each column goes as one array parameter and unnest() turns them back into
@@ -40,6 +40,12 @@ export async function insertJournalRecords(sequelize: Sequelize, entries: Journa
   return Number(rowCount ?? 0)
 }
 
+/** Why a row cannot be stored as it is, or null. */
+export function journalRowProblem(entry: JournalRecord): string | null {
+  if (!Number.isSafeInteger(entry.layoutId)) return `layout id ${String(entry.layoutId)} is not a whole number`
+  return journalTimeProblem(entry.at)
+}
+
 /** The SQLSTATE of a failed query, when PostgreSQL sent one. */
 function sqlState(error: unknown): string | undefined {
   const e = error as { original?: { code?: unknown }, parent?: { code?: unknown }, code?: unknown }
@@ -53,6 +59,8 @@ function sqlState(error: unknown): string | undefined {
  * connection, server shutting down, connection cut) is worth retrying.
  */
 export function isRefusedJournalRow(error: unknown): boolean {
+  // Thrown here, not by PostgreSQL, while turning a row into parameters: that row would throw again.
+  if (error instanceof RangeError || error instanceof TypeError) return true
   const state = sqlState(error)
   return state !== undefined && (state.startsWith('22') || state.startsWith('23'))
 }
@@ -64,6 +72,13 @@ export function isRefusedJournalRow(error: unknown): boolean {
  */
 export async function writeJournalBatch(sequelize: Sequelize, entries: JournalRecord[]): Promise<JournalBatchResult> {
   const result: JournalBatchResult = { inserted: 0, alreadyStored: 0, rejected: [] }
+  // Rows that cannot be stored (e.g. read back from a spill file an older version wrote) are refused here.
+  const writable: JournalRecord[] = []
+  for (const entry of entries) {
+    const problem = journalRowProblem(entry)
+    if (problem) result.rejected.push({ entry, reason: problem })
+    else writable.push(entry)
+  }
   const write = async (part: JournalRecord[]): Promise<void> => {
     try {
       const inserted = await insertJournalRecords(sequelize, part)
@@ -80,6 +95,6 @@ export async function writeJournalBatch(sequelize: Sequelize, entries: JournalRe
       await write(part.slice(half))
     }
   }
-  if (entries.length) await write(entries)
+  if (writable.length) await write(writable)
   return result
 }

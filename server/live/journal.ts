@@ -1,7 +1,9 @@
 import { mkdirSync } from 'node:fs'
+import { join } from 'node:path'
 import type { Sequelize } from 'sequelize'
 import { journalEntryKey, newJournalBootId, prepareJournalEntry, type JournalRecord } from './journal-entry'
 import { writeJournalBatch } from './journal-insert'
+import { JournalSetAside, type SetAsideEntry } from './journal-set-aside'
 import { appendToJournalSpillNow, findLeftoverJournalSpills, readJournalSpill, removeJournalSpill, JournalSpillFile, type LeftoverJournalSpill } from './journal-spill'
 
 /** One event as the live runtime hands it to the journal. */
@@ -27,6 +29,8 @@ export interface JournalOptions {
   memoryLimit?: number
   /** Wait between attempts while the database is unreachable (default 1000 ms). */
   retryMs?: number
+  /** File for entries that can never be stored (default `set-aside.jsonl` in the spill folder). */
+  setAsidePath?: string
   log?: (message: string) => void
 }
 
@@ -46,6 +50,10 @@ export interface JournalStats {
   alreadyStored: number
   /** Entries PostgreSQL refused for their content (each is logged), e.g. one naming a deleted layout. */
   rejected: number
+  /** Entries in the set-aside file (refused ones, kept with their reason), this run's and earlier runs'. */
+  setAside: number
+  /** Since when (epoch ms) every write attempt has failed; null while writes succeed. */
+  failingSince: number | null
 }
 
 export interface Journal {
@@ -59,6 +67,8 @@ export interface Journal {
   /** Writes what it can within a few seconds; what is left stays in the spill file for the next start. */
   close(): Promise<void>
   stats(): JournalStats
+  /** The newest set-aside entries, newest first. */
+  setAsideEntries(limit: number): Promise<SetAsideEntry[]>
 }
 
 const CLOSE_WITHIN_MS = 3000
@@ -91,7 +101,7 @@ const sleep = (ms: number) => new Promise(done => setTimeout(done, Math.max(0, m
 /** The promise's result, or false when it takes longer than `ms`. */
 function within(work: Promise<boolean>, ms: number): Promise<boolean> {
   let timer: NodeJS.Timeout
-  const late = new Promise<false>(done => { timer = setTimeout(() => done(false), Math.max(0, ms)) })
+  const late = new Promise<false>((done) => { timer = setTimeout(() => done(false), Math.max(0, ms)) })
   return Promise.race([work, late]).finally(() => clearTimeout(timer))
 }
 
@@ -111,6 +121,7 @@ class EventJournal implements Journal {
 
   private readonly bootId = newJournalBootId()
   private readonly spill: JournalSpillFile
+  private readonly setAside: JournalSetAside
   private readonly ready: Promise<void>
   private leftovers: LeftoverJournalSpill[] = []
   /** Entries not yet stored and not yet safe in the spill file, in append order. */
@@ -136,6 +147,7 @@ class EventJournal implements Journal {
   private alreadyStored = 0
   private rejected = 0
   private databaseUp = true
+  private failingSince: number | null = null
   private lastError: string | null = null
 
   constructor(options: JournalOptions) {
@@ -147,6 +159,7 @@ class EventJournal implements Journal {
     this.log = options.log ?? (message => console.warn(`[blockbell] ${message}`))
     mkdirSync(options.spillDir, { recursive: true })
     this.spill = new JournalSpillFile(options.spillDir, this.bootId)
+    this.setAside = new JournalSetAside(options.setAsidePath ?? join(options.spillDir, 'set-aside.jsonl'))
     this.ready = this.loadLeftovers(options.spillDir)
   }
 
@@ -278,8 +291,11 @@ class EventJournal implements Journal {
     let result
     try {
       result = await timeout(writeJournalBatch(this.sequelize, batch.entries), WRITE_TIMEOUT_MS, 'Writing a journal batch')
+      // Refused entries are on disk with their reason before the journal moves past them.
+      await this.setAside.add(result.rejected)
     } catch (error) {
       this.writeFailures++
+      this.failingSince ??= Date.now()
       this.lastError = describe(error)
       this.retryAfter = Date.now() + this.retryMs
       if (this.databaseUp) this.log(`Journal: cannot write to the database (${this.lastError}); entries are kept and retried every ${this.retryMs} ms`)
@@ -288,12 +304,13 @@ class EventJournal implements Journal {
     }
     if (!this.databaseUp) this.log('Journal: database reachable again; writing the entries kept meanwhile')
     this.databaseUp = true
+    this.failingSince = null
     this.retryAfter = 0
     this.written += batch.entries.length - result.rejected.length
     this.alreadyStored += result.alreadyStored
     this.rejected += result.rejected.length
     for (const { entry, reason } of result.rejected) {
-      this.log(`Journal: PostgreSQL refused entry ${entry.key} (${entry.type} ${entry.subject ?? ''} on layout ${entry.layoutId}): ${reason}; it is left out`)
+      this.log(`Journal: entry ${entry.key} (${entry.type} ${entry.subject ?? ''} on layout ${entry.layoutId}) cannot be stored: ${reason}; set aside in ${this.setAside.path}`)
     }
     await this.markStored(batch)
     return true
@@ -337,7 +354,7 @@ class EventJournal implements Journal {
     }
     this.spilling = this.spill.append(entries).then(
       () => this.dropFromMemory(this.spill.durableSeq),
-      error => {
+      (error) => {
         this.spillRetryAfter = Date.now() + this.retryMs
         this.lastError = describe(error)
         this.log(`Journal: cannot write the spill file ${this.spill.path} (${this.lastError}); entries stay in memory`)
@@ -406,7 +423,13 @@ class EventJournal implements Journal {
       lastError: this.lastError,
       alreadyStored: this.alreadyStored,
       rejected: this.rejected,
+      setAside: this.setAside.count,
+      failingSince: this.failingSince,
     }
+  }
+
+  setAsideEntries(limit: number): Promise<SetAsideEntry[]> {
+    return this.setAside.recent(limit)
   }
 }
 

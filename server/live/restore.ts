@@ -64,7 +64,9 @@ async function restoreAreas(db: Database, layout: Layout, rows: LatestRow[]): Pr
   const holders: AreaHolders = Object.fromEntries(layout.areas.map(a => [a.id, null]))
   for (const row of rows) {
     const action = row.payload.action
-    const holderId = action === 'take-area' ? row.user_id : action === 'hand-over' ? Number(row.payload.to) : null
+    // a hand-over is an offer (the giver keeps the area until the receiver accepts); older entries moved it at once
+    const holderId = action === 'take-area' || action === 'accept-hand-over' ? row.user_id
+      : action === 'hand-over' ? (row.payload.offer ? row.user_id : Number(row.payload.to)) : null
     if (!holderId) continue
     const user = await db.models.User.findByPk(holderId)
     if (user && !user.disabledAt) holders[row.subject] = { id: user.id, name: user.name, role: user.role } satisfies LiveUser

@@ -2,16 +2,23 @@ import { randomBytes } from 'node:crypto'
 import { join } from 'node:path'
 import mqtt, { type MqttClient } from 'mqtt'
 import { validateLayout } from '#shared/signalling'
-import type { ServerMessage } from '#shared/live/protocol'
+import { HEARTBEAT_MS, type AreaHolders, type LiveSession as OperatingSessionInfo, type ServerMessage } from '#shared/live/protocol'
+import type { Layout } from '#shared/schemas/layout'
+import type { LayoutState } from '#shared/signalling'
+import type { Layout as LayoutRow } from '../database/models'
 import type { Database } from '../database/connection'
-import { verifyPasswordOutsideNitro } from '../database/password-hash'
+import { hashPasswordOutsideNitro, verifyPasswordOutsideNitro } from '../database/password-hash'
 import { startBroker, type RunningBroker } from './broker'
+import type { LiveSession } from '../utils/live-auth'
+import type { PanelConnection } from './connection'
 import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
 import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } from './payloads'
 import { INPUT_FILTERS, parseInputTopic } from '#shared/live/topics'
 import { LayoutRuntime } from './runtime'
 import { restoreLayoutState } from './restore'
+import { carryAreas, carryState } from './layout-reload'
+import { runningLiveSession } from './session-live'
 
 export interface LiveSettings {
   /** External broker; when set, no broker is started here. */
@@ -21,6 +28,19 @@ export interface LiveSettings {
   demo: boolean
   debounceMs: number
   dataDir: string
+  /** BLOCKBELL_AREA_GRACE_S: a holder with no panel open this long leaves the area unattended. */
+  areaGraceMs: number
+  /** BLOCKBELL_HANDOVER_TIMEOUT_S: a hand-over not accepted in this time stays with the giver. */
+  handOverTimeoutMs: number
+}
+
+/** A whole number of seconds from the environment, in ms; the default when unset or not a positive number. */
+function secondsSetting(value: string | undefined, fallbackS: number, name: string): number {
+  if (value === undefined || value === '') return fallbackS * 1000
+  const n = Number(value)
+  if (Number.isFinite(n) && n > 0 && n <= 86_400) return Math.round(n * 1000)
+  console.warn(`[blockbell] ${name}="${value}" is not a number of seconds between 0 and 86400; using ${fallbackS}`)
+  return fallbackS * 1000
 }
 
 export function liveSettings(env: NodeJS.ProcessEnv = process.env): LiveSettings {
@@ -31,6 +51,8 @@ export function liveSettings(env: NodeJS.ProcessEnv = process.env): LiveSettings
     demo: env.BLOCKBELL_DEMO === '1',
     debounceMs: Number(env.BLOCKBELL_DETECTOR_DEBOUNCE_MS ?? 300),
     dataDir: env.BLOCKBELL_DATA_DIR || join(process.cwd(), '.data'),
+    areaGraceMs: secondsSetting(env.BLOCKBELL_AREA_GRACE_S, 60, 'BLOCKBELL_AREA_GRACE_S'),
+    handOverTimeoutMs: secondsSetting(env.BLOCKBELL_HANDOVER_TIMEOUT_S, 30, 'BLOCKBELL_HANDOVER_TIMEOUT_S'),
   }
 }
 
@@ -43,25 +65,73 @@ const log = (message: string) => console.log(`[blockbell] ${message}`)
 export class LiveService {
   readonly hub = new PanelHub()
   readonly runtimes = new Map<string, LayoutRuntime>()
-  readonly counters = { mqttRejected: 0 }
+  readonly counters = { mqttRejected: 0, mqttTimeReplaced: 0 }
   private broker: RunningBroker | null = null
   private client: MqttClient | null = null
   private journal: Journal
   private ready: Promise<void>
+  private heartbeat: ReturnType<typeof setInterval>
+  private panels = new Set<PanelConnection>()
+  private sessionVersions = new Map<number, number>()
+  // Sessions signed out while this process ran (a few a day; a restart forgets them, the database does not).
+  private endedSessions = new Set<string>()
 
   constructor(private readonly db: Database, private readonly settings: LiveSettings) {
     this.journal = createJournal({ sequelize: db.sequelize, spillDir: join(settings.dataDir, 'journal-spill'), log })
     this.ready = this.start()
+    // Panels take silence as "no word from the server": a paused or stuck process shows within seconds.
+    this.heartbeat = setInterval(() => this.hub.broadcastAll({ type: 'heartbeat', at: Date.now() }), HEARTBEAT_MS)
+    this.heartbeat.unref()
   }
 
   whenReady(): Promise<void> { return this.ready }
 
   runtime(slug: string): LayoutRuntime | undefined { return this.runtimes.get(slug) }
 
+  addPanel(panel: PanelConnection): void { this.panels.add(panel) }
+  removePanel(panel: PanelConnection): void { this.panels.delete(panel) }
+
+  /** Records an account's session version as read from the database (only ever moves forward). */
+  noteSessionVersion(userId: number, version: number): void {
+    if (version > (this.sessionVersions.get(userId) ?? -1)) this.sessionVersions.set(userId, version)
+  }
+
+  /** Whether a panel's session still stands, as far as this process knows (commands also ask the database). */
+  sessionCurrent(session: LiveSession): boolean {
+    if (this.endedSessions.has(session.id)) return false
+    const known = this.sessionVersions.get(session.userId)
+    return known === undefined || known === session.version
+  }
+
+  /** One session was signed out: its panels close at once. */
+  endOneSession(sessionId: string): void {
+    this.endedSessions.add(sessionId)
+    for (const panel of [...this.panels]) {
+      if (panel.session.id !== sessionId) continue
+      this.panels.delete(panel)
+      panel.end()
+    }
+  }
+
+  /**
+   * An account's sessions have ended (its session version is now `version`): its panels are closed at
+   * once and, for a disabled account, the areas it held are released on every layout.
+   */
+  endSessionsOf(userId: number, version: number, { releaseAreas }: { releaseAreas: boolean }): void {
+    this.noteSessionVersion(userId, version)
+    for (const panel of [...this.panels]) {
+      if (panel.user.id !== userId || panel.session.version === version) continue
+      this.panels.delete(panel)
+      panel.end()
+    }
+    if (releaseAreas) for (const runtime of this.runtimes.values()) runtime.releaseAreasOf(userId)
+  }
+
   private async start(): Promise<void> {
     // Entries a previous run left in the spill file go in first, so the restored state includes them.
     await this.journal.flush()
     await this.loadLayouts()
+    this.dummyHash = hashPasswordOutsideNitro(randomBytes(18).toString('base64'))
     const internal = { username: 'blockbell-server', password: randomBytes(24).toString('hex') }
     let url = this.settings.mqttUrl
     if (!url) {
@@ -74,23 +144,12 @@ export class LiveService {
     this.connectBridge(url, this.settings.mqttUrl ? {} : internal)
   }
 
-  /** Loads every layout from the database; retries while PostgreSQL is unreachable. */
+  /** Loads every layout that is not archived; retries while PostgreSQL is unreachable. */
   private async loadLayouts(): Promise<void> {
     for (let attempt = 1; ; attempt++) {
       try {
-        const rows = await this.db.models.Layout.findAll()
-        for (const row of rows) {
-          const checked = validateLayout(row.definition)
-          if (!checked.ok) { log(`layout ${row.slug} is not valid and is not run: ${checked.errors.map(e => `${e.path}: ${e.message}`).join('; ')}`); continue }
-          const restored = await restoreLayoutState(this.db, row.id, checked.layout)
-          this.runtimes.set(row.slug, new LayoutRuntime({
-            layoutId: row.id, slug: row.slug, layout: checked.layout, debounceMs: this.settings.debounceMs,
-            state: restored.state, areas: restored.areas,
-            publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
-            journal: this.journal,
-            broadcast: (message: ServerMessage) => this.hub.broadcast(row.slug, message),
-          }))
-        }
+        const rows = await this.db.models.Layout.findAll({ where: { archivedAt: null } })
+        for (const row of rows) await this.startRuntime(row)
         log(`live layouts: ${[...this.runtimes.keys()].join(', ') || 'none'}`)
         return
       } catch (error) {
@@ -100,10 +159,88 @@ export class LiveService {
     }
   }
 
-  private async checkDevice(username: string, password: string): Promise<boolean> {
+  private newRuntime(row: { id: number, slug: string }, layout: Layout, state: LayoutState, areas: AreaHolders, session: OperatingSessionInfo | null): LayoutRuntime {
+    return new LayoutRuntime({
+      layoutId: row.id, slug: row.slug, layout, debounceMs: this.settings.debounceMs, state, areas, session,
+      areaGraceMs: this.settings.areaGraceMs, handOverTimeoutMs: this.settings.handOverTimeoutMs,
+      publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
+      journal: this.journal,
+      broadcast: (message: ServerMessage) => this.hub.broadcast(row.slug, message),
+    })
+  }
+
+  private async startRuntime(row: LayoutRow): Promise<LayoutRuntime | null> {
+    const checked = validateLayout(row.definition)
+    if (!checked.ok) { log(`layout ${row.slug} is not valid and is not run: ${checked.errors.map(e => `${e.path}: ${e.message}`).join('; ')}`); return null }
+    const restored = await restoreLayoutState(this.db, row.id, checked.layout)
+    const session = await runningLiveSession(this.db, row.id)
+    const runtime = this.newRuntime(row, checked.layout, restored.state, restored.areas, session)
+    this.runtimes.set(row.slug, runtime)
+    return runtime
+  }
+
+  /** A layout made (or restored from the archive) while the server runs gets its runtime at once. */
+  async startLayout(id: number): Promise<void> {
+    await this.ready
+    const row = await this.db.models.Layout.findByPk(id)
+    if (!row || row.archivedAt || this.runtimes.has(row.slug)) return
+    const runtime = await this.startRuntime(row)
+    if (!runtime) return
+    runtime.publishAllRetained()
+    log(`layout ${row.slug} is live`)
+  }
+
+  /**
+   * A layout's current version changed: its runtime is replaced by one on the new definition, carrying the
+   * state of everything the new version still has, and every panel on it gets a fresh snapshot. Operators
+   * connected to the old runtime are carried across after the snapshot, so they follow as the next delta.
+   */
+  async reloadLayout(id: number): Promise<void> {
+    await this.ready
+    const row = await this.db.models.Layout.findByPk(id)
+    if (!row || row.archivedAt) return
+    const old = this.runtimes.get(row.slug)
+    if (!old) return this.startLayout(id)
+    const checked = validateLayout(row.definition)
+    if (!checked.ok) return
+    old.stop()
+    const runtime = this.newRuntime(row, checked.layout, carryState(old.state(), checked.layout), carryAreas(old.areaHolders(), checked.layout), old.currentSession())
+    this.runtimes.set(row.slug, runtime)
+    this.hub.broadcast(row.slug, runtime.snapshot())
+    for (const { user, count } of old.connectedOperators()) for (let i = 0; i < count; i++) runtime.connect(user)
+    runtime.publishAllRetained()
+    log(`layout ${row.slug} reloaded at version ${row.version}`)
+  }
+
+  /** An archived or deleted layout stops running; its panels are told. */
+  stopLayout(slug: string): void {
+    const runtime = this.runtimes.get(slug)
+    if (!runtime) return
+    runtime.stop()
+    this.runtimes.delete(slug)
+    this.hub.broadcast(slug, { type: 'error', message: `layout: "${slug}" no longer runs (archived or deleted).` })
+    log(`layout ${slug} stopped`)
+  }
+
+  private dummyHash: Promise<string> | null = null
+
+  /**
+   * The device's layout (null: every layout) when its username and password are right. An unknown name
+   * checks the password against a hash of a random one, so it takes as long as a known name.
+   */
+  private async checkDevice(username: string, password: string): Promise<{ layout: string | null } | false> {
     const device = await this.db.models.Device.findOne({ where: { username } })
-    if (!device || device.disabledAt) return false
-    return verifyPasswordOutsideNitro(device.passwordHash, password)
+    this.dummyHash ??= hashPasswordOutsideNitro(randomBytes(18).toString('base64'))
+    const right = await verifyPasswordOutsideNitro(device?.passwordHash ?? await this.dummyHash, password)
+    if (!device || !right || device.disabledAt) return false
+    if (device.layoutId === null) return { layout: null }
+    const layout = await this.db.models.Layout.findByPk(device.layoutId)
+    return layout ? { layout: layout.slug } : false
+  }
+
+  /** Ends the device's MQTT connections at once (after it is disabled or given a new password). */
+  disconnectDevice(username: string): void {
+    this.broker?.disconnectDevice(username)
   }
 
   private connectBridge(url: string, credentials: { username?: string, password?: string }): void {
@@ -113,7 +250,7 @@ export class LiveService {
       log(`MQTT bridge connected to ${url}`)
       client.subscribe(INPUT_FILTERS, { qos: 1 })
       // A broker that restarted may have lost the retained indications: publish them all again.
-      for (const runtime of this.runtimes.values()) runtime.publishAllIndications()
+      for (const runtime of this.runtimes.values()) runtime.publishAllRetained()
     })
     client.on('error', error => log(`MQTT bridge: ${error.message}`))
     client.on('offline', () => log('MQTT bridge offline; reconnecting'))
@@ -136,7 +273,11 @@ export class LiveService {
       if (input.kind === 'detector') {
         const parsed = parseDetectorPayload(payload)
         if (!parsed.ok) return reject(parsed.reason)
-        runtime.detectorInput(input.id, parsed.value.occupied, parsed.value.at)
+        if (parsed.value.timeReplaced) {
+          this.counters.mqttTimeReplaced++
+          if (this.counters.mqttTimeReplaced <= 20 || this.counters.mqttTimeReplaced % 1000 === 0) log(`MQTT message on ${topic}: ${parsed.value.timeReplaced} (${this.counters.mqttTimeReplaced} so far)`)
+        }
+        runtime.detectorInput(input.id, parsed.value.occupied, parsed.value.at, parsed.value.address)
       } else if (input.kind === 'turnout') {
         const parsed = parseTurnoutPayload(payload)
         if (!parsed.ok) return reject(parsed.reason)
@@ -153,7 +294,10 @@ export class LiveService {
 
   journalStats() { return this.journal.stats() }
 
+  journalSetAside(limit: number) { return this.journal.setAsideEntries(limit) }
+
   async close(): Promise<void> {
+    clearInterval(this.heartbeat)
     for (const runtime of this.runtimes.values()) runtime.stop()
     await new Promise<void>(resolve => this.client ? this.client.end(false, {}, () => resolve()) : resolve())
     await this.broker?.close()

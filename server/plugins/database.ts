@@ -12,6 +12,7 @@ export default defineNitroPlugin((nitroApp) => {
   // The live side writes its last journal entries on close: close it before the pool it writes through.
   nitroApp.hooks.hook('close', async () => {
     await closeLive()
+    await closeMail()
     await closeDatabase()
   })
 })

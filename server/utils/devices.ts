@@ -16,12 +16,14 @@ export async function createDevice(body: CreateDeviceBody): Promise<DeviceView> 
   return toDeviceView(row)
 }
 
-/** Disables or enables a device, or sets a new password; the broker checks the table at every sign-in. */
+/** Disables or enables a device, or sets a new password; a disabled device (or one with a new password) is disconnected. */
 export async function updateDevice(id: number, body: UpdateDeviceBody): Promise<DeviceView> {
   const row = await useDatabase().models.Device.findByPk(id)
   if (!row) throw createError({ statusCode: 404, message: `id: no device with id ${id}` })
   if (body.disabled !== undefined) row.disabledAt = body.disabled ? (row.disabledAt ?? new Date()) : null
   if (body.password !== undefined) row.passwordHash = await hashPassword(body.password)
   await row.save()
+  // The broker checks the table only at sign-in: a connection made before must not outlive the change.
+  if (row.disabledAt || body.password !== undefined) useLive().disconnectDevice(row.username)
   return toDeviceView(row)
 }

@@ -1,15 +1,30 @@
+import type { UserSession } from '#auth-utils'
 import type { LiveUser } from '#shared/live/protocol'
 
-/** The user behind a session user id, as the live side needs them; null when missing or disabled. */
-export async function loadLiveUser(id: number): Promise<LiveUser | null> {
-  const row = await useDatabase().models.User.findByPk(id)
-  if (!row || row.disabledAt) return null
+/** The session facts a panel's WebSocket keeps. */
+export interface LiveSession { id: string, userId: number, version: number | undefined }
+
+export function liveSessionOf(session: UserSession): LiveSession | null {
+  if (!session.user || !session.id) return null
+  return { id: session.id, userId: session.user.id, version: session.secure?.sessionVersion }
+}
+
+/** The user behind a session, as the live side needs them; null when the session no longer stands. */
+export async function loadLiveUser(session: LiveSession): Promise<LiveUser | null> {
+  const { row, current } = await checkSession({
+    id: session.id,
+    user: { id: session.userId } as UserSession['user'],
+    secure: session.version === undefined ? undefined : { sessionVersion: session.version },
+  })
+  if (!row || !current) return null
+  runningLive()?.noteSessionVersion(row.id, row.sessionVersion)
   return { id: row.id, name: row.name, role: row.role }
 }
 
 /**
- * Cross-site WebSocket hijacking defence (OWASP WebSocket Security Cheat Sheet): the Origin must be this
- * server's own, or one listed in BLOCKBELL_ALLOWED_ORIGINS (comma-separated).
+ * Cross-site request defence, for the WebSocket handshake (OWASP WebSocket Security Cheat Sheet) and every
+ * state-changing request: the Origin must be this server's own, or one listed in BLOCKBELL_ALLOWED_ORIGINS
+ * (comma-separated).
  */
 export function originAllowed(headers: Headers): boolean {
   const origin = headers.get('origin')

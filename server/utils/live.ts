@@ -8,8 +8,18 @@ export function useLive(): LiveService {
   return service
 }
 
+/** The live service when this process runs one (never starts it). */
+export function runningLive(): LiveService | undefined {
+  return service
+}
+
 export async function closeLive(): Promise<void> {
   const running = service
   service = undefined
   await running?.close()
+}
+
+/** The live service when this process runs one (not with BLOCKBELL_LIVE=0): saves tell it to follow. */
+export function liveLayouts(): LiveService | undefined {
+  return process.env.BLOCKBELL_LIVE === '0' ? undefined : useLive()
 }

@@ -1,18 +1,8 @@
 import { createError } from 'h3'
 import { QueryTypes, type Sequelize } from 'sequelize'
-import { DEFAULT_THRESHOLDS, dueState, type CleaningThresholds, type DueState } from '#shared/maintenance/due'
+import { DEFAULT_THRESHOLDS, dueState, type CleaningThresholds } from '#shared/maintenance/due'
 import type { CleaningInput, ThresholdsInput } from '#shared/schemas/maintenance'
-
-export interface BlockMaintenance {
-  block: string
-  name: string
-  passages: number
-  occupiedSeconds: number
-  dropouts: number
-  lastCleanedAt: string | null
-  state: DueState
-  reasons: string[]
-}
+import type { BlockMaintenance, CleaningRecord } from '#shared/types/maintenance'
 
 interface UseRow { block: string, passages: string, occupied_seconds: string | null, dropouts: string, cleaned_at: Date | null }
 
@@ -120,7 +110,7 @@ export async function recordCleaning(sequelize: Sequelize, layoutId: number, def
 }
 
 /** The latest cleanings of a layout, newest first, with who did them. */
-export async function listCleanings(sequelize: Sequelize, layoutId: number, limit = 50) {
+export async function listCleanings(sequelize: Sequelize, layoutId: number, limit = 50): Promise<CleaningRecord[]> {
   const rows = await sequelize.query<{ id: number, blocks: string[], method: string, notes: string | null, done_at: Date, name: string | null }>(`
     SELECT c.id, c.blocks, c.method, c.notes, c.done_at, u.name
     FROM cleanings c LEFT JOIN users u ON u.id = c.done_by

@@ -1,3 +1,4 @@
+import type { H3Event } from 'h3'
 import { Op, type Transaction } from 'sequelize'
 import type { User } from '../database/models'
 import type { PersonView } from '#shared/types/people'
@@ -46,16 +47,22 @@ export async function updatePerson(id: number, body: UpdateUserBody): Promise<Pe
     if (losesAdmin && await otherActiveAdmins(id, transaction) === 0) {
       throw createError({ statusCode: 409, message: 'This is the last active admin: make another admin first, then change this one.' })
     }
+    const disabling = body.disabled === true && !row.disabledAt
+    const roleChanges = body.role !== undefined && body.role !== row.role
     if (body.name !== undefined) row.name = body.name
     if (body.role !== undefined) row.role = body.role
     if (body.disabled !== undefined) row.disabledAt = body.disabled ? (row.disabledAt ?? new Date()) : null
     await row.save({ transaction })
+    // A disabled account or a changed role ends the account's sessions and closes its panels at once.
+    if (disabling || roleChanges) {
+      row.sessionVersion = await bumpSessionVersion(id, { transaction, releaseAreas: disabling || row.role === 'viewer' })
+    }
     return toPersonView(row)
   })
 }
 
-/** Checks the current password and stores a new one. */
-export async function changeOwnPassword(id: number, currentPassword: string, newPassword: string): Promise<void> {
+/** Checks the current password and stores a new one; ends the account's other sessions, keeps this one. */
+export async function changeOwnPassword(event: H3Event, id: number, currentPassword: string, newPassword: string): Promise<void> {
   const row = await useDatabase().models.User.findByPk(id)
   if (!row) throw createError({ statusCode: 404, message: 'Account not found' })
   if (!await verifyPassword(row.passwordHash, currentPassword)) {
@@ -63,4 +70,6 @@ export async function changeOwnPassword(id: number, currentPassword: string, new
   }
   row.passwordHash = await hashPassword(newPassword)
   await row.save()
+  row.sessionVersion = await bumpSessionVersion(id)
+  await openSession(event, row)
 }

@@ -1,12 +1,12 @@
 import type { H3Event } from 'h3'
 import type { User as SessionUser } from '#auth-utils'
-import type { SignInBody } from '#shared/schemas/account'
+import type { SignInBody, SignOutBody } from '#shared/schemas/account'
 
 let dummyHash: Promise<string> | undefined
 
 /** Checks e-mail and password, with throttling of repeated failures, and opens a sealed cookie session. */
 export async function signIn(event: H3Event, { email, password }: SignInBody): Promise<SessionUser> {
-  const client = getRequestIP(event) ?? 'unknown'
+  const client = clientAddress(event)
   const wait = signInRetryAfter(email, client)
   if (wait > 0) {
     setResponseHeader(event, 'Retry-After', wait)
@@ -22,8 +22,19 @@ export async function signIn(event: H3Event, { email, password }: SignInBody): P
     throw createError({ statusCode: 401, message: 'Wrong e-mail address or password.' })
   }
   if (row.disabledAt) throw createError({ statusCode: 403, message: 'This account has been disabled. Ask an admin to enable it again.' })
-  clearSignInFailures(email)
-  const user: SessionUser = { id: row.id, email: row.email, name: row.name, role: row.role }
-  await replaceUserSession(event, { user, loggedInAt: Date.now() })
-  return user
+  clearSignInFailures(email, client)
+  return openSession(event, row)
+}
+
+/**
+ * Signs out this session, or with `everywhere` every session of the account (the session version is
+ * raised: other tablets and browsers are signed out at their next request, their panels at once).
+ */
+export async function signOut(event: H3Event, { everywhere }: SignOutBody): Promise<void> {
+  const session = await getUserSession(event)
+  if (session.user) {
+    if (everywhere) await bumpSessionVersion(session.user.id)
+    else if (session.id) await endOneSession(session.id, session.user.id)
+  }
+  await endSession(event)
 }

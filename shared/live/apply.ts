@@ -1,5 +1,5 @@
 import type { Layout } from '../schemas/layout'
-import type { AreaHolders, DeviceStatus, FeedEntry, LiveChange, LiveSession, LiveState, LiveUser, ServerMessage } from './protocol'
+import type { AreaHolders, DeviceStatus, FeedEntry, HandOverOffers, UnattendedAreas, LiveChange, LiveSession, LiveState, LiveUser, ServerMessage } from './protocol'
 
 /**
  * What a panel knows about one layout, built only from the server's messages: a `snapshot` replaces it,
@@ -14,10 +14,14 @@ export interface PanelView {
   definition: Layout | null
   state: LiveState
   areas: AreaHolders
+  unattended: UnattendedAreas
+  offers: HandOverOffers
   operators: LiveUser[]
   devices: Record<string, DeviceStatus>
   session: LiveSession | null
   feed: FeedEntry[]
+  /** The server's clock (epoch ms) when the last snapshot was made: clocks shown are worked out from it. */
+  serverTime: number | null
 }
 
 export type SnapshotMessage = Extract<ServerMessage, { type: 'snapshot' }>
@@ -29,12 +33,12 @@ export const FEED_LIMIT = 50
 function emptyState(): LiveState {
   return {
     occupied: {}, turnouts: {}, overrides: {}, descriptions: {}, alarms: [], indications: {},
-    signalRevisions: {}, turnoutRevisions: {}, dropouts: {},
+    signalRevisions: {}, turnoutRevisions: {}, dropouts: {}, locks: {},
   }
 }
 
 export function emptyView(): PanelView {
-  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, operators: [], devices: {}, session: null, feed: [] }
+  return { layout: null, seq: -1, definition: null, state: emptyState(), areas: {}, unattended: {}, offers: {}, operators: [], devices: {}, session: null, feed: [], serverTime: null }
 }
 
 /**
@@ -48,10 +52,13 @@ export function applySnapshot(view: PanelView, msg: SnapshotMessage): void {
   view.definition = Object.isFrozen(msg.definition) ? msg.definition : Object.freeze(structuredClone(msg.definition))
   view.state = { ...emptyState(), ...structuredClone(msg.state) }
   view.areas = structuredClone(msg.areas)
+  view.unattended = { ...msg.unattended }
+  view.offers = structuredClone(msg.offers ?? {})
   view.operators = structuredClone(msg.operators)
   view.devices = structuredClone(msg.devices)
   view.session = msg.session ? { ...msg.session } : null
   view.feed = msg.feed.slice(-FEED_LIMIT).map(e => ({ ...e }))
+  view.serverTime = Number.isFinite(msg.serverTime) ? msg.serverTime : null
 }
 
 /**
@@ -100,7 +107,13 @@ function applyChange(view: PanelView, change: LiveChange): void {
       upsertAlarm(s, change.alarm)
       break
     case 'dropout': s.dropouts[change.block] = change.at; break
+    case 'lock':
+      if (change.lock) s.locks[change.turnout] = { ...change.lock }
+      else delete s.locks[change.turnout]
+      break
     case 'areas': view.areas = structuredClone(change.areas); break
+    case 'unattended': view.unattended = { ...change.areas }; break
+    case 'offers': view.offers = structuredClone(change.offers); break
     case 'operators': view.operators = structuredClone(change.operators); break
     case 'device': view.devices[change.device] = { ...change.status }; break
     case 'session': view.session = change.session ? { ...change.session } : null; break

@@ -6,11 +6,13 @@ import type { ClientMessage, ServerMessage } from './protocol'
  * seq order; a gap asks for `resync`), and reconnects by itself with growing delays. After every reconnect
  * the server sends a fresh snapshot, so nothing missed while away is lost.
  *
- * connecting: first attempt; live: a snapshot has arrived on the current socket; reconnecting: the link
- * dropped and a new attempt is due; offline: several attempts failed (or the device has no network), it
- * keeps trying at the longest delay; idle: stopped.
+ * connecting: first attempt; live: a snapshot has arrived on the current socket and the server is heard
+ * from; stale: the socket is open but nothing (not even the heartbeat) has come for `staleAfterMs` — the
+ * server may be stuck, so the picture may be old; reconnecting: the link dropped and a new attempt is due;
+ * offline: several attempts failed (or the device has no network), it keeps trying at the longest delay;
+ * idle: stopped.
  */
-export type ConnectionState = 'idle' | 'connecting' | 'live' | 'reconnecting' | 'offline'
+export type ConnectionState = 'idle' | 'connecting' | 'live' | 'stale' | 'reconnecting' | 'offline'
 
 /**
  * The part of the WebSocket interface used here (the browser's WebSocket and the `ws` package both fit;
@@ -40,6 +42,8 @@ export interface LiveConnectionOptions {
   /** Failed attempts after which the state reads offline. */
   offlineAfter?: number
   pingEveryMs?: number
+  /** Nothing heard for this long while live: the state reads stale (the server sends a heartbeat every second). */
+  staleAfterMs?: number
   /** Nothing heard for this long: the socket is taken as dead and replaced. */
   silenceLimitMs?: number
   /** A resync that brings no snapshot within this time: reconnect. */
@@ -57,6 +61,11 @@ export class LiveConnection {
   private retryTimer: ReturnType<typeof setTimeout> | null = null
   private pingTimer: ReturnType<typeof setInterval> | null = null
   private silenceTimer: ReturnType<typeof setTimeout> | null = null
+  private staleTimer: ReturnType<typeof setTimeout> | null = null
+  /** Server clock minus this device's clock, from the latest heartbeat. */
+  private clockOffset = 0
+  /** When the server was last heard from (this device's clock). */
+  heardAt = 0
   private resyncTimer: ReturnType<typeof setTimeout> | null = null
   state: ConnectionState = 'idle'
 
@@ -64,12 +73,15 @@ export class LiveConnection {
     this.o = {
       onMessage: () => {}, onState: () => {}, isOnline: () => true,
       backoffMs: [500, 1000, 2000, 4000, 8000, 15_000, 30_000], offlineAfter: 5,
-      pingEveryMs: 15_000, silenceLimitMs: 40_000, resyncTimeoutMs: 5_000,
+      pingEveryMs: 15_000, staleAfterMs: 3500, silenceLimitMs: 40_000, resyncTimeoutMs: 5_000,
       ...options,
     }
   }
 
   get layout(): string { return this.o.layout }
+
+  /** Now on the server's clock, as far as the heartbeats tell (commands carry it as `madeAt`). */
+  serverNow(now = Date.now()): number { return Math.round(now + this.clockOffset) }
 
   start(): void {
     if (!this.stopped) return
@@ -111,8 +123,7 @@ export class LiveConnection {
     let socket: SocketLike
     try {
       socket = this.o.createSocket(this.o.url)
-    }
-    catch {
+    } catch {
       this.dropped()
       return
     }
@@ -139,23 +150,23 @@ export class LiveConnection {
     let msg: ServerMessage
     try {
       msg = JSON.parse(typeof raw === 'string' ? raw : String(raw)) as ServerMessage
-    }
-    catch {
+    } catch {
       return
     }
     if (!msg || typeof msg !== 'object' || typeof msg.type !== 'string') return
-    if (msg.type === 'snapshot') {
+    if (this.state === 'stale') this.setState('live')
+    if (msg.type === 'heartbeat') {
+      if (typeof msg.at === 'number') this.clockOffset = msg.at - Date.now()
+    } else if (msg.type === 'snapshot') {
       if (msg.layout !== this.o.layout) return
       applySnapshot(this.o.view, msg)
       this.resyncing = false
       if (this.resyncTimer) clearTimeout(this.resyncTimer)
       this.attempt = 0
       this.setState('live')
-    }
-    else if (msg.type === 'delta') {
+    } else if (msg.type === 'delta') {
       if (applyDelta(this.o.view, msg) === 'gap' && !this.resyncing) this.resync()
-    }
-    else {
+    } else {
       this.o.onMessage(msg)
     }
   }
@@ -168,8 +179,11 @@ export class LiveConnection {
 
   /** Any message proves the link is alive. */
   private heard(): void {
+    this.heardAt = Date.now()
     if (this.silenceTimer) clearTimeout(this.silenceTimer)
+    if (this.staleTimer) clearTimeout(this.staleTimer)
     this.silenceTimer = setTimeout(() => this.replace(), this.o.silenceLimitMs)
+    this.staleTimer = setTimeout(() => { if (this.state === 'live') this.setState('stale') }, this.o.staleAfterMs)
   }
 
   /** Drops the current socket (dead or stuck) and reconnects as after a loss. */
@@ -198,13 +212,12 @@ export class LiveConnection {
     s.onopen = s.onmessage = s.onclose = s.onerror = null
     try {
       s.close(code, reason)
-    }
-    catch { /* already closed */ }
+    } catch { /* already closed */ }
   }
 
   private clearTimers(): void {
-    for (const t of [this.retryTimer, this.silenceTimer, this.resyncTimer]) if (t) clearTimeout(t)
+    for (const t of [this.retryTimer, this.silenceTimer, this.staleTimer, this.resyncTimer]) if (t) clearTimeout(t)
     if (this.pingTimer) clearInterval(this.pingTimer)
-    this.retryTimer = this.silenceTimer = this.resyncTimer = this.pingTimer = null
+    this.retryTimer = this.silenceTimer = this.staleTimer = this.resyncTimer = this.pingTimer = null
   }
 }

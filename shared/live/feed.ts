@@ -23,14 +23,20 @@ export function describeChange(n: LayoutNames, change: LiveChange, userName: (id
   const by = (id: string | undefined) => { const name = userName(id); return name ? ` by ${name}` : '' }
   switch (change.type) {
     case 'alarm':
+      if (change.alarm.kind === 'turnout-under-lock') {
+        const a = change.alarm
+        const why = a.signal ? `${n.signal(a.signal)} was reading over it` : `${n.block(a.block)} was occupied${a.description ? ` by ${a.description}` : ''}`
+        return { at, tone: 'alarm', text: `Turnout ${a.turnout} moved while locked: ${why}` }
+      }
       return { at, tone: 'alarm', text: `Signal ${n.signal(change.alarm.signal)} passed at danger into ${n.block(change.alarm.block)}${change.alarm.description ? ` by ${change.alarm.description}` : ''}` }
     case 'alarm-acknowledged':
-      return { at, tone: 'info', text: `Alarm at ${n.signal(change.alarm.signal)} acknowledged${by(change.alarm.acknowledgedBy)}` }
+      return { at, tone: 'info', text: `Alarm at ${change.alarm.kind === 'spad' ? n.signal(change.alarm.signal) : `turnout ${change.alarm.turnout}`} acknowledged${by(change.alarm.acknowledgedBy)}` }
     case 'override':
       return { at, tone: 'info', text: `${n.signal(change.signal)} set to ${change.mode}${by(change.by)}` }
     case 'turnout':
       return { at, tone: 'info', text: `Turnout ${change.turnout} ${change.position}${by(change.by)}` }
     case 'description':
+      if (change.reason === 'lost') return { at, tone: 'warn', text: `Description ${change.lost} lost: ${n.block(change.block)} cleared with no undescribed train ahead to move on to. Interpose it again where the train is.` }
       if (change.reason === 'interpose') return { at, tone: 'info', text: `${change.description ?? 'Description cleared'} in ${n.block(change.block)}${by(change.by)}` }
       return null
     case 'speed':

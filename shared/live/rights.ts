@@ -1,6 +1,6 @@
 import type { Layout, LayoutArea } from '../schemas/layout'
 import { roleAtLeast, type Role } from '../utils/roles'
-import type { AreaHolders, LiveUser } from './protocol'
+import type { AreaHolders, LiveUser, UnattendedAreas } from './protocol'
 
 /**
  * Who may work what, in one place: the server refuses a command with these reasons, and a panel uses the
@@ -63,15 +63,18 @@ export function interposeVerdict(user: PanelUser | null, def: Layout, holders: A
 
 export type AreaAction = 'take' | 'release' | 'hand-over' | 'force-release'
 
-/** Whether `user` may take, release, hand over or force-release `area` as the holders stand now. */
-export function areaVerdict(user: PanelUser | null, holders: AreaHolders, area: LayoutArea, action: AreaAction): Verdict {
+/**
+ * Whether `user` may take, release, hand over or force-release `area` as the holders stand now. An area in
+ * `unattended` (its holder has had no panel open for the grace period) may be taken by any signaller.
+ */
+export function areaVerdict(user: PanelUser | null, holders: AreaHolders, area: LayoutArea, action: AreaAction, unattended: UnattendedAreas = {}): Verdict {
   const no = (reason: string): Verdict => ({ allowed: false, area, reason })
   if (!user || !roleAtLeast(user.role, 'signaller')) return no(VIEWER_REASON)
   const holder = holderOf(holders, area.id)
   switch (action) {
     case 'take':
       if (holder?.id === user.id) return no(`You already hold ${area.name}.`)
-      if (holder) return no(`${area.name} is held by ${holder.name}; ask them to release or hand it over.`)
+      if (holder && !(area.id in unattended)) return no(`${area.name} is held by ${holder.name}; ask them to release or hand it over.`)
       break
     case 'release':
     case 'hand-over':
@@ -94,20 +97,30 @@ export function handOverTargetVerdict(user: PanelUser, area: LayoutArea, to: Liv
   return { allowed: true, area, reason: null }
 }
 
+/** Only an admin may force a throw of a locked turnout (in any area, held or not, as with force-release). */
+export function forceTurnoutVerdict(user: PanelUser | null, def: Layout, turnout: string): Verdict {
+  const area = areaOfTurnout(def, turnout)
+  if (!user || !roleAtLeast(user.role, 'signaller')) return { allowed: false, area, reason: VIEWER_REASON }
+  if (!roleAtLeast(user.role, 'admin')) return { allowed: false, area, reason: 'Only an admin can force a throw of a locked turnout.' }
+  return { allowed: true, area, reason: null }
+}
+
 export function acknowledgeVerdict(user: PanelUser | null): Verdict {
   return user && roleAtLeast(user.role, 'signaller') ? { allowed: true, area: null, reason: null } : { allowed: false, area: null, reason: VIEWER_REASON }
 }
 
-/** What the area bar offers `user` for one area. */
-export interface AreaActions { take: boolean, release: boolean, handOver: boolean, forceRelease: boolean, note: string | null }
+/** What the area bar offers `user` for one area; `takeOver`: Take would take it from an absent holder. */
+export interface AreaActions { take: boolean, takeOver: boolean, release: boolean, handOver: boolean, forceRelease: boolean, note: string | null }
 
-export function areaActions(user: PanelUser | null, holders: AreaHolders, area: LayoutArea): AreaActions {
-  const may = (action: AreaAction) => areaVerdict(user, holders, area, action).allowed
+export function areaActions(user: PanelUser | null, holders: AreaHolders, area: LayoutArea, unattended: UnattendedAreas = {}): AreaActions {
+  const may = (action: AreaAction) => areaVerdict(user, holders, area, action, unattended).allowed
   const holder = holderOf(holders, area.id)
   const mine = !!user && holder?.id === user.id
-  const actions: AreaActions = { take: may('take'), release: may('release'), handOver: may('hand-over'), forceRelease: may('force-release') && !mine, note: null }
+  const take = may('take')
+  const actions: AreaActions = { take, takeOver: take && !!holder, release: may('release'), handOver: may('hand-over'), forceRelease: may('force-release') && !mine, note: null }
   if (!user || !roleAtLeast(user.role, 'signaller')) actions.note = 'Viewers watch only.'
-  else if (holder && holder.id !== user.id && !actions.forceRelease) actions.note = `Held by ${holder.name}: ask them to release or hand it over.`
+  else if (holder && !mine && actions.takeOver) actions.note = `Unattended: ${holder.name} has had no panel open for a while. You may take it.`
+  else if (holder && !mine && !actions.forceRelease) actions.note = `Held by ${holder.name}: ask them to release or hand it over.`
   return actions
 }
 

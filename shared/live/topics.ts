@@ -14,17 +14,19 @@ export const relative = {
   turnoutSet: (id: string) => `turnout/${id}/set`,
   signal: (id: string) => `signal/${id}`,
   deviceStatus: (id: string) => `device/${id}/status`,
+  area: (id: string) => `area/${id}`,
 } as const
 
 export const layoutTopic = (slug: string, relativeTopic: string) => layoutPrefix(slug) + relativeTopic
 export const signalTopic = (slug: string, signal: string) => layoutTopic(slug, relative.signal(signal))
 export const turnoutSetTopic = (slug: string, turnout: string) => layoutTopic(slug, relative.turnoutSet(turnout))
+export const areaTopic = (slug: string, area: string) => layoutTopic(slug, relative.area(area))
 
 /** Topic filters the server's bridge subscribes to, for every layout. */
 export const INPUT_FILTERS = [relative.detector('+'), relative.turnout('+'), relative.deviceStatus('+')].map(t => `${TOPIC_ROOT}/+/${t}`)
 
-/** Topic filters a layout's hardware subscribes to: signal indications and throw requests. */
-export const HARDWARE_FILTERS = (slug: string) => [layoutTopic(slug, relative.signal('+')), layoutTopic(slug, relative.turnoutSet('+'))]
+/** Topic filters a layout's hardware subscribes to: signal indications, throw requests and which areas a signaller holds. */
+export const HARDWARE_FILTERS = (slug: string) => [layoutTopic(slug, relative.signal('+')), layoutTopic(slug, relative.turnoutSet('+')), layoutTopic(slug, relative.area('+'))]
 
 export type InputTopic =
   | { kind: 'detector', layout: string, id: string }
@@ -52,6 +54,14 @@ export function turnoutSetOf(relativeTopic: string): string | null {
 export function signalOf(relativeTopic: string): string | null {
   return /^signal\/([^/]+)$/.exec(relativeTopic)?.[1] ?? null
 }
+
+/** The area an `area/<id>` topic (relative to the layout prefix) tells about, or null. */
+export function areaOf(relativeTopic: string): string | null {
+  return /^area\/([^/]+)$/.exec(relativeTopic)?.[1] ?? null
+}
+
+/** Whether an area is held by a signaller: JSON `{"held": true|false}`, retained (who holds it is not sent). */
+export const areaPayload = (held: boolean) => JSON.stringify({ held })
 
 /** Whether a relative topic is one the hardware reports as retained: a turnout position or a device status. */
 export const isRetainedInput = (relativeTopic: string) => /^turnout\/[^/]+$/.test(relativeTopic) || relativeTopic.startsWith('device/')

@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 import { ROLES } from '../utils/roles'
 
 // Request bodies shared by the forms and the API routes.
@@ -22,6 +22,11 @@ export const SignInBody = z.object({
   password: z.string({ error: 'Enter your password' }).min(1, 'Enter your password').max(200, 'A password has at most 200 characters'),
 })
 export type SignInBody = z.infer<typeof SignInBody>
+
+export const SignOutBody = z.object({
+  everywhere: z.boolean({ error: 'Give true or false' }).optional(),
+})
+export type SignOutBody = z.infer<typeof SignOutBody>
 
 export const ChangePasswordBody = z.object({
   currentPassword: z.string({ error: 'Enter your current password' }).min(1, 'Enter your current password').max(200, 'A password has at most 200 characters'),

@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 
 /** Route parameter `id`: a positive whole number. */
 export const IdParams = z.object({

@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 import { nameField, passwordField } from './account'
 
 /** An MQTT sign-in for a controller on the layout (detector board, signal decoder, the fake layout). */

@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 import { END_OF_LINE, SIGNAL_KINDS, TURNOUT_LEGS } from '../signalling/values'
 
 /**
@@ -112,6 +112,17 @@ export const Diagram = z.object({
     .default([]),
 })
 
+/**
+ * Which train a decoder address stands for. RailCom-capable detectors (NMRA S-9.3.2) report the address of
+ * the locomotive decoder in their block; Blockbell then writes this description into the block's berth.
+ * DCC addresses run 1-10239 (short 1-127, long up to 10239: NMRA S-9.2.1, from memory).
+ */
+export const DecoderEntry = z.object({
+  address: z.number({ error: 'address is a number' }).int('address is a whole number').min(1, 'a decoder address is 1 to 10239').max(10239, 'a decoder address is 1 to 10239'),
+  description: z.string().trim().min(1, 'description is required').max(16, 'a description is at most 16 characters')
+    .regex(/^[A-Z0-9](?:[A-Z0-9 -]*[A-Z0-9])?$/, 'a description is capital letters, digits, inner spaces and hyphens, e.g. 1F42'),
+})
+
 const EMPTY_DIAGRAM = { width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] }
 
 export const LayoutDefinition = z.object({
@@ -123,6 +134,8 @@ export const LayoutDefinition = z.object({
   turnouts: z.array(Turnout).default([]),
   signals: z.array(Signal).default([]),
   areas: z.array(Area).default([]),
+  /** Decoder address -> train description, for detectors that report addresses. */
+  decoders: z.array(DecoderEntry).max(10239).default([]),
   diagram: Diagram.default(() => structuredClone(EMPTY_DIAGRAM)),
 })
 
@@ -135,6 +148,7 @@ export type LayoutLink = z.output<typeof Link>
 export type LayoutTurnout = z.output<typeof Turnout>
 export type LayoutSignal = z.output<typeof Signal>
 export type LayoutArea = z.output<typeof Area>
+export type LayoutDecoder = z.output<typeof DecoderEntry>
 export type LayoutDiagram = z.output<typeof Diagram>
 export type SignalKindName = z.output<typeof SignalKind>
 export type EndOfLineReading = z.output<typeof EndOfLine>

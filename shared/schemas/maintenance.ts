@@ -1,4 +1,4 @@
-import { z } from 'zod'
+import { z } from './zod'
 import { CLEANING_METHODS } from '../maintenance/due'
 import { ItemId } from './layout'
 

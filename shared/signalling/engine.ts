@@ -1,5 +1,6 @@
 import type { Layout, LayoutSignal } from '../schemas/layout'
 import { IndicationReader, computeIndications, sameIndication } from './aspects'
+import { lockOf } from './locking'
 import { scaleSpeed } from './scale'
 import { isLeg, legOf, own, placeKey, topologyOf, type Topology } from './topology'
 import type {
@@ -251,7 +252,7 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       if (occupied !== (base.occupied[block] === true)) {
         changes.push({ type: 'block', block, occupied, at })
         if (occupied) enterBlock(topo, layout, draft, block, at, changes)
-        else leaveBlock(draft, block, at, changes)
+        else leaveBlock(topo, draft, block, at, changes)
         refresh(topo, draft, topo.signalsByBlock.get(block) ?? [], changes)
       }
       break
@@ -260,10 +261,28 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       const t = topo.turnoutById.get(event.turnout)
       if (!t) return [unknown('turnout', `unknown turnout "${event.turnout}"`)]
       if (base.turnouts[t.id] === event.position) return []
+      // judged on the state just before the move: the move itself is a fact and is applied all the same. A first
+      // report (from unknown) is not a move: it says where the turnout lies, as after a start-up.
+      const lock = base.turnouts[t.id] === 'unknown' ? null : lockOf(topo, t.id, {
+        occupied: b => base.occupied[b] === true,
+        position: id => base.turnouts[id] ?? 'unknown',
+        aspect: id => draft.before(topo.signalById.get(id)!).aspect,
+      })
       draft.map('turnouts')[t.id] = event.position
       const revision = (base.turnoutRevisions[t.id] ?? 0) + 1
       draft.map('turnoutRevisions')[t.id] = revision
       changes.push({ type: 'turnout', turnout: t.id, position: event.position, revision, at, ...byOf(event) })
+      if (lock) {
+        const n = base.alarmCount + 1
+        const description = own(base.descriptions, t.block) ? base.descriptions[t.block]! : null
+        const alarm: Alarm = {
+          id: `lock-${n}`, kind: 'turnout-under-lock', turnout: t.id, block: t.block,
+          signal: lock.reason === 'route' ? lock.signal : null, description, at, acknowledgedAt: null,
+        }
+        draft.next.alarmCount = n
+        draft.alarms().push(alarm)
+        changes.push({ type: 'alarm', alarm })
+      }
       refresh(topo, draft, topo.signalsByTurnout.get(t.id) ?? [], changes)
       break
     }
@@ -340,13 +359,46 @@ function enterBlock(topo: Topology, layout: Layout, draft: Draft, block: string,
   draft.map('enteredAt')[block] = at
 }
 
-function leaveBlock(draft: Draft, block: string, at: number, changes: Change[]): void {
+function leaveBlock(topo: Topology, draft: Draft, block: string, at: number, changes: Change[]): void {
+  const enteredAt = own(draft.next.enteredAt, block) ? draft.next.enteredAt[block]! : -Infinity
   draft.map('occupied')[block] = false
   delete draft.map('enteredAt')[block]
-  if (own(draft.next.descriptions, block)) {
-    delete draft.map('descriptions')[block]
-    changes.push({ type: 'description', block, description: null, reason: 'clear', at })
+  if (!own(draft.next.descriptions, block)) return
+  const description = draft.next.descriptions[block]!
+  delete draft.map('descriptions')[block]
+  const ahead = describedElsewhere(draft.next, description) ? null : occupiedUndescribedAhead(topo, draft.next, block, enteredAt)
+  if (ahead !== null) {
+    draft.map('descriptions')[ahead] = description
+    changes.push({ type: 'description', block: ahead, description, reason: 'step', from: block, at })
   }
+  const lost = ahead === null && !describedElsewhere(draft.next, description)
+  changes.push({ type: 'description', block, description: null, reason: lost ? 'lost' : 'clear', ...(lost ? { lost: description } : {}), at })
+}
+
+function describedElsewhere(state: LayoutState, description: string): boolean {
+  for (const b in state.descriptions) if (state.descriptions[b] === description) return true
+  return false
+}
+
+/**
+ * Berth stepping when the rear of a train clears (docs/sources.md §5, CA Berth Step, with occupancy as the
+ * stepping condition): the block ahead of `block` on the set route that is occupied and has no description
+ * (the front of a train standing across both), entered no earlier than `block` itself was. Among several,
+ * the one entered most recently.
+ */
+function occupiedUndescribedAhead(topo: Topology, state: LayoutState, block: string, enteredAt: number): string | null {
+  let best: string | null = null
+  let bestAt = -Infinity
+  for (const x of topo.out.get(block) ?? []) {
+    if (state.occupied[x] !== true || own(state.descriptions, x) || setAgainst(topo, state, block, x)) continue
+    const at = own(state.enteredAt, x) ? state.enteredAt[x]! : -Infinity
+    if (at < enteredAt && at !== -Infinity) continue
+    if (best === null || at > bestAt) {
+      best = x
+      bestAt = at
+    }
+  }
+  return best
 }
 
 /**

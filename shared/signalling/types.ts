@@ -16,20 +16,33 @@ export interface Indication {
   exceedsLine: boolean
 }
 
-/** A signal passed at danger. Kept after acknowledgement with `acknowledgedAt` set. */
-export interface Alarm {
+interface AlarmBase {
   id: string
-  kind: 'spad'
-  signal: string
-  /** The block the train entered past the signal. */
+  /** The block the train entered past the signal, or the block of the turnout that moved under a lock. */
   block: string
-  /** Train description of the train, if it had one. */
+  /** Train description of the train in that block, if it had one. */
   description: string | null
-  /** Epoch milliseconds of the detector event. */
+  /** Epoch milliseconds of the event that raised it. */
   at: number
   acknowledgedAt: number | null
   acknowledgedBy?: string
 }
+
+/** A signal passed at danger. Kept after acknowledgement with `acknowledgedAt` set. */
+export interface SpadAlarm extends AlarmBase {
+  kind: 'spad'
+  signal: string
+}
+
+/** A turnout reported a move while it was locked (its block occupied, or a signal reading over it off). */
+export interface TurnoutLockAlarm extends AlarmBase {
+  kind: 'turnout-under-lock'
+  turnout: string
+  /** The signal whose route locked it, or null for a track lock (its block occupied). */
+  signal: string | null
+}
+
+export type Alarm = SpadAlarm | TurnoutLockAlarm
 
 /**
  * The whole live state of one layout. Plain JSON data: it can be stored, sent and compared.
@@ -137,10 +150,13 @@ export interface DescriptionChange {
   description: string | null
   /**
    * step: moved in from block `from` as the train entered; interpose: typed in by an operator;
-   * clear: the block cleared, or an empty interpose cancelled it.
+   * clear: the block cleared, or an empty interpose cancelled it; lost: the block cleared and its
+   * description is nowhere else on the layout (no occupied, undescribed block ahead to move on to).
    */
-  reason: 'step' | 'interpose' | 'clear'
+  reason: 'step' | 'interpose' | 'clear' | 'lost'
   from?: string
+  /** With reason lost: the description that was lost. */
+  lost?: string
   at: number
   by?: string
 }

@@ -162,6 +162,14 @@ function checkReferences(layout: Layout): ValidationError[] {
     })
   })
 
+  // decoder addresses: one description per address
+  const addressAt = new Map<number, number>()
+  layout.decoders.forEach((entry, i) => {
+    const first = addressAt.get(entry.address)
+    if (first !== undefined) err(`decoders[${i}].address`, `address ${entry.address} is already listed at decoders[${first}]`)
+    else addressAt.set(entry.address, i)
+  })
+
   // diagram
   const d = layout.diagram
   const inside = (p: Point) => p[0] >= 0 && p[1] >= 0 && p[0] <= d.width && p[1] <= d.height

@@ -10,5 +10,9 @@ declare module '#auth-utils' {
   interface UserSession {
     loggedInAt: number
   }
+  // Sealed in the cookie, never sent to the browser.
+  interface SecureSessionData {
+    sessionVersion: number
+  }
 }
 export {}

@@ -216,7 +216,7 @@ describe('the Panel with three people on one layout (Debian chromium)', () => {
     const turnoutSheet = page.getByTestId('turnout-sheet')
     expect(await turnoutSheet.getAttribute('aria-label')).toBe('Turnout T5')
     await expect.poll(() => turnoutSheet.getByTestId('no-control-reason').textContent(), POLL).toBe('Tam Oakridge holds Main line; only the holder works this turnout.')
-    expect(await turnoutSheet.getByTestId('throw').count()).toBe(0)
+    expect(await turnoutSheet.getByTestId('turnout-controls').count()).toBe(0)
     expect(await page.getByTestId('turnout-T5').getAttribute('data-position')).toBe(t5)
     await turnoutSheet.getByTestId('sheet-close').click()
 

@@ -140,7 +140,7 @@ describe('event journal: entries PostgreSQL refuses', () => {
 
     expect((await storedRows(db, layoutId)).map(r => r.n)).toEqual([0, 1, 2, 3, 4, 5, 7, 8, 9])
     expect(j.stats()).toMatchObject({ written: 9, rejected: 1, queued: 0 })
-    expect(lines.join('\n')).toMatch(/refused entry \S+-7 \(detector B6 on layout 987654\).*foreign key/)
+    expect(lines.join('\n')).toMatch(/entry \S+-7 \(detector B6 on layout 987654\) cannot be stored: .*foreign key/)
     // The journal carries on after the refusal.
     j.append(numbered(layoutId, 10))
     await j.flush()
@@ -168,7 +168,7 @@ describe('event journal: entries PostgreSQL refuses', () => {
     expect(rows[0]!.subject).toHaveLength(64)
     expect(rows[1]!.payload.unserialisable).toMatch(/circular/i)
     expect(rows[2]!.payload.unserialisable).toMatch(/bigint/i)
-    expect(lines.filter(l => /cut to|could not be serialised|time was not a number/.test(l))).toHaveLength(4)
+    expect(lines.filter(l => /cut to|could not be serialised|is not a number; the append time is used/.test(l))).toHaveLength(4)
   })
 
   it('stores an entry holding the character U+0000, which PostgreSQL text and jsonb refuse, with U+FFFD instead', async () => {

@@ -92,10 +92,11 @@ describe('pages', () => {
     expect(reply.status).toBe(403)
   })
 
-  it('says plainly that a screen is not built yet', async () => {
+  it('renders the Sessions screen for a viewer, built (no "not built" notice)', async () => {
     const viewer = await signedIn('viewer')
     const reply = await viewer.request('GET', '/sessions', undefined, { accept: 'text/html' })
     expect(reply.status).toBe(200)
-    expect(String(reply.body)).toContain('Not built yet.')
+    expect(String(reply.body)).toContain('data-test="session-filters"')
+    expect(String(reply.body)).not.toContain('Not built yet.')
   })
 })

@@ -22,7 +22,7 @@ const topic = fc.oneof(
   fc.constantFrom(...detectors).map(d => `${PREFIX}detector/${d}`),
   fc.constantFrom(...layout.turnouts.map(t => t.id), 'T99').map(t => `${PREFIX}turnout/${t}`),
   fc.string({ maxLength: 12 }).map(s => `${PREFIX}detector/${s.replace(/[+#/\u0000]/g, '') || 'x'}`),
-  fc.constantFrom(`${PREFIX}device/board-1/status`, 'blockbell/v1/nowhere/detector/D01', `${PREFIX}signal/SU1`),
+  fc.constantFrom(`${PREFIX}device/fake-layout/status`, 'blockbell/v1/nowhere/detector/D01', `${PREFIX}signal/SU1`),
 )
 const payload = fc.oneof(
   fc.constantFrom('1', '0', 'normal', 'reverse', 'online', 'offline', '{"occupied":true}', '{"position":"reverse"}', 'null', '[]', '{}'),
@@ -42,7 +42,7 @@ describe('fuzz', () => {
   beforeAll(async () => { device = await mqtt.connectAsync(MQTT_URL, { username: 'fake-layout', password: process.env.BLOCKBELL_FAKE_MQTT_PASSWORD ?? 'fake-layout-demo' }) })
   afterAll(async () => {
     for (const d of detectors) await device.publishAsync(`${PREFIX}detector/${d}`, '0')
-    await device.publishAsync(`${PREFIX}device/board-1/status`, '', { retain: true })
+    await device.publishAsync(`${PREFIX}device/fake-layout/status`, '', { retain: true })
     await new Promise(resolve => setTimeout(resolve, 600))
     await device.endAsync()
   })

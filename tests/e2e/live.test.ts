@@ -109,11 +109,11 @@ describe('detector to panel', () => {
 
   it('shows which controllers are online or offline', async () => {
     const panel = await LiveClient.as('viewer')
-    const offline = panel.change(c => c.type === 'device' && c.device === 'board-7' && !c.status.online)
-    await device.publishAsync(`${PREFIX}device/board-7/status`, 'offline', { retain: true })
+    const offline = panel.change(c => c.type === 'device' && c.device === 'fake-layout' && !c.status.online)
+    await device.publishAsync(`${PREFIX}device/fake-layout/status`, 'offline', { retain: true })
     await offline
-    expect((await panel.snapshot()).devices['board-7']?.online).toBe(false)
-    await device.publishAsync(`${PREFIX}device/board-7/status`, '', { retain: true })
+    expect((await panel.snapshot()).devices['fake-layout']?.online).toBe(false)
+    await device.publishAsync(`${PREFIX}device/fake-layout/status`, '', { retain: true })
     panel.close()
   })
 })
@@ -186,9 +186,13 @@ describe('commands', () => {
     await a.command({ action: 'set-override', signal: 'SU3', mode: 'auto', revision: rev2 })
   })
 
-  it('hands an area over, and lets only an admin force-release', async () => {
+  it('hands an area over once the receiver accepts, and lets only an admin force-release', async () => {
     const welcome = b.messages.find(m => m.type === 'welcome') as { user: { id: number } }
     expect(await a.command({ action: 'hand-over', area: 'main', to: welcome.user.id })).toMatchObject({ ok: true })
+    const offered = await a.snapshot()
+    expect(offered.areas.main?.name).toBe('Tam Oakridge')
+    expect(offered.offers?.main).toMatchObject({ to: { name: 'Rhea Lintwhistle' } })
+    expect(await b.command({ action: 'accept-hand-over', area: 'main' })).toMatchObject({ ok: true })
     expect((await a.snapshot()).areas.main?.name).toBe('Rhea Lintwhistle')
     expect(await a.command({ action: 'force-release', area: 'main' })).toMatchObject({ ok: false, reason: 'Only an admin can force-release an area.' })
     expect(await admin.command({ action: 'force-release', area: 'main' })).toMatchObject({ ok: true })
@@ -205,5 +209,23 @@ describe('commands', () => {
     expect(error.type === 'error' && error.message).toMatch(/command\.mode/)
     viewer.send({ type: 'ping' })
     expect(await viewer.next(m => m.type === 'pong', 2000, since)).toBeTruthy()
+  })
+
+  it('sends every panel a heartbeat with the server clock at least every 2 s', async () => {
+    const since = viewer.messages.length
+    const first = await viewer.next(m => m.type === 'heartbeat', 2000, since)
+    const second = await viewer.next(m => m.type === 'heartbeat' && m !== first, 2000, viewer.messages.indexOf(first) + 1)
+    if (first.type !== 'heartbeat' || second.type !== 'heartbeat') throw new Error('heartbeat expected')
+    expect(second.at - first.at).toBeLessThanOrEqual(2000)
+    expect(Math.abs(second.at - Date.now())).toBeLessThan(2000)
+  })
+
+  it('refuses a command that reaches the server more than 5 s after it was made, and does nothing', async () => {
+    const before = await b.snapshot()
+    const since = b.messages.length
+    b.send({ type: 'command', id: 'late-1', command: { action: 'take-area', area: 'branch' }, madeAt: Date.now() - 9000 })
+    const result = await b.next(m => m.type === 'command-result' && m.id === 'late-1', 2000, since)
+    expect(result).toMatchObject({ ok: false, reason: expect.stringMatching(/^Not done: this command reached the server 9 s after you made it/) })
+    expect((await b.snapshot()).areas.branch).toEqual(before.areas.branch)
   })
 })

@@ -36,7 +36,7 @@ describe('people (admin)', () => {
     expect(again.body.message).toMatch(/^email: /)
   })
 
-  it('changes a role: it takes effect on the person\'s next request', async () => {
+  it('changes a role: it ends the person\'s sessions, and the next sign-in has the new role', async () => {
     const admin = await signedIn('admin')
     const body = newPerson('viewer')
     const { body: { person: created } } = await admin.post('/api/users', body)
@@ -44,6 +44,10 @@ describe('people (admin)', () => {
     await person.signIn(body.email, body.password)
     expect((await person.get('/api/users')).status).toBe(403)
     expect((await admin.patch(`/api/users/${created.id}`, { role: 'admin' })).body.person.role).toBe('admin')
+    const ended = await person.get('/api/users')
+    expect(ended.status).toBe(401)
+    expect(ended.body.message).toMatch(/session has ended/)
+    await person.signIn(body.email, body.password)
     expect((await person.get('/api/users')).status).toBe(200)
     expect((await admin.patch(`/api/users/${created.id}`, { role: 'viewer' })).status).toBe(200)
   })
@@ -85,8 +89,10 @@ describe('people (admin)', () => {
     const secondAdmin = new SessionClient()
     await secondAdmin.signIn(second.email, second.password)
     expect((await admin.patch(`/api/users/${me.id}`, { role: 'signaller' })).status).toBe(200)
+    // A changed role ends the account's sessions: the demo admin signs in again once restored.
+    expect((await admin.get('/api/auth/me')).status).toBe(401)
     expect((await secondAdmin.patch(`/api/users/${me.id}`, { role: 'admin' })).status).toBe(200)
-    expect((await admin.patch(`/api/users/${person.id}`, { disabled: true })).status).toBe(200)
+    expect((await (await signedIn('admin')).patch(`/api/users/${person.id}`, { disabled: true })).status).toBe(200)
   })
 })
 

@@ -22,12 +22,15 @@ export interface FakeLayoutOptions {
   /** The script file (JSON, relative to the repository or absolute). */
   script: string
   slug?: string
+  /** The layout file the fake layout checks the script against (default: the demo layout). */
+  layout?: string
   username?: string
   password?: string
 }
 
 export function runFakeLayoutScript(o: FakeLayoutOptions): FakeLayoutRun {
-  const child = spawn(resolve(REPO, 'node_modules/.bin/tsx'), ['fake-hardware/index.ts', '--script', o.script, '--slug', o.slug ?? 'wrenfold'], {
+  const args = ['fake-hardware/index.ts', '--script', o.script, '--slug', o.slug ?? 'wrenfold', ...(o.layout ? ['--layout', o.layout] : [])]
+  const child = spawn(resolve(REPO, 'node_modules/.bin/tsx'), args, {
     cwd: REPO,
     env: {
       ...process.env,

@@ -38,12 +38,15 @@ export interface DemoRunOptions {
  * Operator steps (hold, interpose, acknowledge) are made by the holder of the item's area; when the area is
  * free, Ada (an admin) takes it first, within the same step.
  */
+/** The fixture's server clock at the start of a run (a fixed instant, unlike the test machine's clock). */
+export const DEMO_RUN_START = 1_767_000_000_000
+
 export class DemoRun {
   readonly layout = demoLayout()
   readonly runtime: LayoutRuntime
   readonly deltas: DeltaMessage[] = []
   readonly published: { topic: string, payload: string, retain: boolean }[] = []
-  at = 1_767_000_000_000
+  at = DEMO_RUN_START
 
   /** Starts with every turnout reported normal (as the fake layout does at start-up), so the signals can clear. */
   constructor(options: DemoRunOptions = {}) {
@@ -74,6 +77,7 @@ export class DemoRun {
       for (const p of people) if (!now.some(o => o.id === p.id)) this.runtime.connect(p)
     })
   }
+
   get areas(): AreaHolders { return structuredClone(this.runtime.areaHolders()) }
 
   /** Hands the areas to these holders (null: free) through real take, release and force-release commands. */
@@ -88,6 +92,16 @@ export class DemoRun {
         if (want) this.must(this.runtime.command(want, { action: 'take-area', area }))
       }
     })
+  }
+
+  /** `user` takes `area` through the real command. */
+  take(user: LiveUser, area: string): DeltaMessage {
+    return this.step(() => this.must(this.runtime.command(user, { action: 'take-area', area })))
+  }
+
+  /** The holder `from` offers `area` to `to` through the real hand-over command. */
+  offer(from: LiveUser, area: string, to: LiveUser): DeltaMessage {
+    return this.step(() => this.must(this.runtime.command(from, { action: 'hand-over', area, to: to.id })))
   }
 
   /** Reports these controllers online or offline, as their status topics would. */

@@ -1,4 +1,7 @@
+import { SignOutBody } from '#shared/schemas/account'
+
 export default defineEventHandler(async (event) => {
-  await clearUserSession(event)
+  const body = await parseBody(event, SignOutBody)
+  await signOut(event, body)
   return { signedOut: true }
 })

@@ -1,5 +1,9 @@
 import * as initial from './0001-initial'
 import * as devicesAndEventKeys from './0002-devices-and-event-keys'
+import * as endingSessions from './0003-ending-sessions'
+import * as mailInvitationsResets from './0005-mail-invitations-resets'
+import * as operatingSessionReview from './0006-operating-session-review'
+import * as layoutEditing from './0007-layout-editing'
 import * as trackCleaning from './0010-track-cleaning'
 
 /**
@@ -9,5 +13,9 @@ import * as trackCleaning from './0010-track-cleaning'
 export const migrations = [
   { name: '0001-initial', ...initial },
   { name: '0002-devices-and-event-keys', ...devicesAndEventKeys },
+  { name: '0003-ending-sessions', ...endingSessions },
+  { name: '0005-mail-invitations-resets', ...mailInvitationsResets },
+  { name: '0006-operating-session-review', ...operatingSessionReview },
+  { name: '0007-layout-editing', ...layoutEditing },
   { name: '0010-track-cleaning', ...trackCleaning },
 ]

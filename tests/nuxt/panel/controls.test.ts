@@ -7,6 +7,7 @@ import { flushPromises } from '@vue/test-utils'
 import PanelSignalSheet from '~/components/panel/PanelSignalSheet.vue'
 import PanelAreaBar from '~/components/panel/PanelAreaBar.vue'
 import PanelTurnoutSheet from '~/components/panel/PanelTurnoutSheet.vue'
+import PanelHandOverOffer from '~/components/panel/PanelHandOverOffer.vue'
 import { ADA, DemoRun, MILO, RHEA, TAM } from '../../support/live-fixtures'
 import type { TestLiveServer } from '../../support/live-server'
 import { goLive, signIn } from './helpers'
@@ -93,7 +94,7 @@ describe('turnouts', () => {
     const ctx = await goLive(held({ main: TAM }))
     server = ctx.server
     const w = await mountSuspended(PanelTurnoutSheet, { props: { turnout: 'T4' } })
-    expect(w.find('[data-test="throw"]').exists()).toBe(false)
+    expect(w.find('[data-test="turnout-controls"]').exists()).toBe(false)
     expect(w.find('[data-test="no-control-reason"]').text()).toContain('Tam Oakridge holds Main line')
   })
 })
@@ -115,6 +116,41 @@ describe('area bar', () => {
     await main.find('form').trigger('submit')
     await expect.poll(() => server!.commands().length).toBe(2)
     expect(server.commands()[1]!.command).toEqual({ action: 'hand-over', area: 'main', to: RHEA.id })
+  })
+
+  it('counts a double tap on Take once, even when Release has taken its place between the taps', async () => {
+    signIn(TAM)
+    const ctx = await goLive(held({}))
+    server = ctx.server
+    const w = await mountSuspended(PanelAreaBar, { props: { areas: ctx.run.layout.areas } })
+    await w.find('[data-test="area-branch"] [data-test="take"]').trigger('click')
+    await expect.poll(() => server!.commands().length).toBe(1)
+    server.broadcast({ type: 'command-result', id: server.commands()[0]!.id, ok: true })
+    server.broadcast(ctx.run.take(TAM, 'branch'))
+    await expect.poll(() => w.find('[data-test="area-branch"] [data-test="release"]').exists()).toBe(true)
+    await w.find('[data-test="area-branch"] [data-test="release"]').trigger('click')
+    await flushPromises()
+    await new Promise(resolve => setTimeout(resolve, 100))
+    expect(server.commands().map(c => c.command)).toEqual([{ action: 'take-area', area: 'branch' }])
+    // and a deliberate Release a moment later goes out
+    await new Promise(resolve => setTimeout(resolve, 600))
+    await w.find('[data-test="area-branch"] [data-test="release"]').trigger('click')
+    await expect.poll(() => server!.commands().length).toBe(2)
+  })
+
+  it('shows the receiver of a hand-over a clear alert to accept, and sends the acceptance', async () => {
+    signIn(RHEA)
+    const run = held({ main: TAM })
+    const ctx = await goLive(run)
+    server = ctx.server
+    const w = await mountSuspended(PanelHandOverOffer)
+    expect(w.find('[data-test="handover-offers"]').exists()).toBe(false)
+    server.broadcast(ctx.run.offer(TAM, 'main', RHEA))
+    await expect.poll(() => w.find('[data-test="handover-offer-main"]').exists()).toBe(true)
+    expect(w.find('[data-test="handover-offers"]').attributes('role')).toBe('alert')
+    expect(w.find('[data-test="handover-offer-main"]').text()).toContain('Tam Oakridge wants to hand Main line over to you')
+    await w.find('[data-test="accept-handover"]').trigger('click')
+    await expect.poll(() => server!.commands().map(c => c.command)).toEqual([{ action: 'accept-hand-over', area: 'main' }])
   })
 
   it('says why an area cannot be handed over when no other signaller is connected', async () => {

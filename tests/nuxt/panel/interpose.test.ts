@@ -1,5 +1,5 @@
 // Interposing a train description into a berth: headcode-like text up to 16 characters (the engine's
-// limit; headcode form docs/sources.md §5), empty clears the berth.
+// limit; headcode form docs/sources.md §5); the sheet closes once it is done; a described berth can be cleared.
 import { afterEach, describe, expect, it } from 'vitest'
 import { mountSuspended } from '@nuxt/test-utils/runtime'
 import PanelInterposeDialog from '~/components/panel/PanelInterposeDialog.vue'
@@ -35,7 +35,7 @@ describe('interpose dialog', () => {
     expect(server.commands()).toHaveLength(0)
   })
 
-  it('sends the description in capitals, and shows it in the berth once the server reports it', async () => {
+  it('sends the description in capitals, shows it in the berth once the server reports it, and closes', async () => {
     signIn(TAM)
     const ctx = await goLive(branchHeldBy(TAM))
     server = ctx.server
@@ -44,12 +44,13 @@ describe('interpose dialog', () => {
     await w.find('form').trigger('submit')
     await expect.poll(() => server!.commands().map(c => c.command)).toEqual([{ action: 'interpose', block: 'UM2', description: '2J01' }])
     server.broadcast(ctx.run.interpose('UM2', '2J01'))
+    expect(w.emitted('close')).toBeUndefined()
     server.broadcast({ type: 'command-result', id: server.commands()[0]!.id, ok: true })
-    await expect.poll(() => w.find('[data-test="command-done"]').exists()).toBe(true)
+    await expect.poll(() => w.emitted('close')?.length).toBe(1)
     expect(ctx.live.view.state.descriptions.UM2).toBe('2J01')
   })
 
-  it('clears a described berth when the text is emptied', async () => {
+  it('clears a described berth with its own, secondary button', async () => {
     signIn(TAM)
     const run = branchHeldBy(TAM)
     run.occupy('UM2')
@@ -58,19 +59,21 @@ describe('interpose dialog', () => {
     server = ctx.server
     const w = await mountSuspended(PanelInterposeDialog, { props: { block: 'UM2' } })
     expect((w.find('[data-test="interpose-input"]').element as HTMLInputElement).value).toBe('1A40')
-    await w.find('[data-test="interpose-input"]').setValue('')
-    expect(w.find('[data-test="interpose-submit"]').text()).toBe('Clear berth')
-    await w.find('form').trigger('submit')
+    expect(w.find('[data-test="interpose-submit"]').text()).toBe('Interpose')
+    expect(w.find('[data-test="clear-berth"]').classes()).not.toContain('btn-primary')
+    await w.find('[data-test="clear-berth"]').trigger('click')
     await expect.poll(() => server!.commands().map(c => c.command)).toEqual([{ action: 'interpose', block: 'UM2', description: '' }])
   })
 
-  it('closes without a command when an empty berth is left empty', async () => {
+  it('offers no Clear berth on an empty berth, and sends nothing for an empty field', async () => {
     signIn(TAM)
     const ctx = await goLive(branchHeldBy(TAM))
     server = ctx.server
     const w = await mountSuspended(PanelInterposeDialog, { props: { block: 'UM2' } })
+    expect(w.find('[data-test="clear-berth"]').exists()).toBe(false)
+    expect(w.find('[data-test="interpose-submit"]').text()).toBe('Interpose')
+    expect(w.find('[data-test="interpose-submit"]').attributes('disabled')).toBeDefined()
     await w.find('form').trigger('submit')
-    expect(w.emitted('close')).toHaveLength(1)
     expect(server.commands()).toHaveLength(0)
   })
 

@@ -48,10 +48,15 @@ export interface Run {
 const aspectsOf = (engine: Engine): Record<string, Aspect> =>
   Object.fromEntries(Object.entries(engine.indications()).map(([id, ind]) => [id, ind.aspect]))
 
+/** A detector payload says occupied: `1`, or JSON with `occupied: true` (and the train's decoder address). */
+export function occupiedIn(payload: string): boolean {
+  return payload === '1' || (payload.startsWith('{') && (JSON.parse(payload) as { occupied?: boolean }).occupied === true)
+}
+
 /** Feeds one publish to the engine as the Blockbell bridge would (no debounce). */
 export function feed(engine: Engine, p: Publish, at: number): void {
   const [kind, id] = p.topic.split('/')
-  if (kind === 'detector') engine.apply({ type: 'detector', detector: id!, occupied: p.payload === '1', at })
+  if (kind === 'detector') engine.apply({ type: 'detector', detector: id!, occupied: occupiedIn(p.payload), at })
   else if (kind === 'turnout') engine.apply({ type: 'turnout', turnout: id!, position: p.payload as 'normal' | 'reverse', at })
 }
 
@@ -80,4 +85,4 @@ export function runWithEngine(layout: Layout, plans: TrainPlan[], options: Simul
 
 /** Detector publishes only, as "D03=1". */
 export const detectorTrail = (ps: readonly Publish[]): string[] =>
-  ps.filter((p) => p.topic.startsWith('detector/')).map((p) => `${p.topic.slice('detector/'.length)}=${p.payload}`)
+  ps.filter((p) => p.topic.startsWith('detector/')).map((p) => `${p.topic.slice('detector/'.length)}=${occupiedIn(p.payload) ? '1' : p.payload}`)

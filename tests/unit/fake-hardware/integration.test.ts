@@ -131,13 +131,16 @@ describe('the fake layout process on a real broker', () => {
     expect(first.slice(0, layout.turnouts.length).map((m) => m.topic)).toEqual(layout.turnouts.map((t) => `turnout/${t.id}`))
     expect(published.filter((m) => m.topic.startsWith('turnout/')).every((m) => m.retain)).toBe(true)
     expect(first.slice(layout.turnouts.length).map((m) => m.topic)).toEqual(detectors.map((d) => `detector/${d}`))
-    // the four trains stand in the fiddle roads FY1-FY4 (D13-D16) at the start
-    expect(first.filter((m) => m.payload === '1').map((m) => m.topic)).toEqual(['detector/D13', 'detector/D14', 'detector/D15', 'detector/D16'])
+    // the four trains stand in the fiddle roads FY1-FY4 (D13-D16) at the start, each detector reporting the
+    // decoder address of the train on it (fake-hardware/trains/wrenfold.json)
+    expect(first.slice(layout.turnouts.length).filter((m) => m.payload !== '0').map((m) => [m.topic, JSON.parse(m.payload).address])).toEqual([
+      ['detector/D13', 142], ['detector/D14', 650], ['detector/D15', 201], ['detector/D16', 233],
+    ])
     // afterwards only the layout's own detectors and turnouts, with their payloads
     for (const m of got.slice(1)) {
       if (m.topic.startsWith('detector/')) expect(detectors).toContain(m.topic.slice(9))
       else expect(m.topic).toMatch(/^turnout\/T[1-7]$/)
-      expect(m.payload).toMatch(/^(0|1|normal|reverse)$/)
+      expect(m.payload).toMatch(/^(0|1|normal|reverse|\{"occupied":true,"address":\d+\})$/)
     }
     expect(run.out.some((l) => / 1F42 enters UM1 \(D01=1\)$/.test(l))).toBe(true)
 

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest'
-import { SCALES } from '#shared/signalling'
+import { createEngine, SCALES } from '#shared/signalling'
 import { needsThrough, topologyOf } from '#shared/signalling/topology'
 import { modelMmPerSecond, OPERATOR_HOLD_MS, Simulation } from '../../../fake-hardware/simulation'
 import type { Publish } from '../../../fake-hardware/output'
-import { circle, demoLayout, demoPlans, detectorTrail, plan, runWithEngine } from './harness'
+import { circle, demoLayout, demoPlans, detectorTrail, feed, occupiedIn, plan, runWithEngine, valid } from './harness'
 
 const proceedAll = (n: number) => Object.fromEntries(Array.from({ length: n }, (_, i) => [`S${i}`, 'proceed' as const]))
 
@@ -24,7 +24,7 @@ describe('scale speed of the trains', () => {
     const sim = new Simulation(circle(6, 1000, false), [plan({ headcode: '1F42', lengthMm: 300, speedKmh: 54.864, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
     const ps = runUntil(sim, {}, () => false, 30_000)
-    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && p.payload === '1')!.at
+    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
     expect(entered('D2') - entered('D1')).toBeCloseTo(5000, -1)
     expect(entered('D4') - entered('D3')).toBeCloseTo(5000, -1)
   })
@@ -34,7 +34,7 @@ describe('scale speed of the trains', () => {
     const sim = new Simulation(circle(6, 914.4, false), [plan({ headcode: '2J01', lengthMm: 300, speedKmh: 24.1196, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
     const ps = runUntil(sim, {}, () => false, 40_000)
-    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && p.payload === '1')!.at
+    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
     expect(entered('D3') - entered('D2')).toBeCloseTo(10_400, -1)
   })
 })
@@ -75,10 +75,10 @@ describe('detectors', () => {
     const state = new Map<string, string>()
     for (let i = 0; i < ps.length; i++) {
       const p = ps[i]!
-      if (p.payload === '1' && state.get(p.topic) !== 'dropout') entries++
+      if (occupiedIn(p.payload) && state.get(p.topic) !== 'dropout') entries++
       if (p.payload === '0') {
         const back = ps.slice(i + 1).find((q) => q.topic === p.topic)
-        if (back && back.payload === '1' && back.at - p.at <= 100) {
+        if (back && occupiedIn(back.payload) && back.at - p.at <= 100) {
           dropouts++
           expect(back.at - p.at).toBeGreaterThanOrEqual(30)
           state.set(p.topic, 'dropout')
@@ -129,19 +129,92 @@ describe('signals', () => {
     expect(sim.view()[0]!.spads).toBe(1)
   })
 
-  it('every signal passed at danger in the simulation is an alarm in the signalling engine, and only those', () => {
+  it('every signal passed at danger in the simulation is an alarm in the signalling engine, and only those', { timeout: 60_000 }, () => {
     const quiet = runWithEngine(demoLayout(), demoPlans(), { seed: 11, spadChance: 0, dropoutChance: 0 }, 3_600_000)
+    // no signal passed at danger and no turnout moved under a lock
     expect(quiet.engine.state().alarms).toEqual([])
-    // every train keeps going round (no deadlock): an hour is many rounds for each
-    for (const v of quiet.sim.view()) expect(v.laps, v.headcode).toBeGreaterThanOrEqual(10)
+    // the trains that need no locked turnout keep going round: an hour is many rounds for each
+    for (const v of quiet.sim.view().filter((v) => v.headcode === '1F42' || v.headcode === '2J01')) expect(v.laps, v.headcode).toBeGreaterThanOrEqual(10)
 
-    const wild = runWithEngine(demoLayout(), demoPlans(), { seed: 11, spadChance: 1, dropoutChance: 0 }, 3_600_000)
+    // on a circle of two-block sections two trains keep meeting signals at danger with the block ahead free
+    const ring = circle(6)
+    const twoBlockSections = valid({ ...ring, signals: ring.signals.filter((_, i) => i % 2 === 0) })
+    const trains = [
+      plan({ headcode: '1F42', lengthMm: 300, speedKmh: 50, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] }),
+      plan({ headcode: '2J01', lengthMm: 300, speedKmh: 30, route: ['B3', 'B4', 'B5', 'B0', 'B1', 'B2'] }),
+    ]
+    const wild = runWithEngine(twoBlockSections, trains, { seed: 11, spadChance: 1, dropoutChance: 0 }, 600_000)
     const spads = wild.sim.view().reduce((n, v) => n + v.spads, 0)
     expect(spads).toBeGreaterThan(0)
     const alarms = wild.engine.state().alarms
     expect(alarms.length).toBe(spads)
+    expect(alarms.every((a) => a.kind === 'spad')).toBe(true)
     const passed = wild.log.filter((l) => / runs past \S+ at danger$/.test(l)).map((l) => l.split(' ')[3])
     expect(alarms.map((a) => a.signal)).toEqual(passed)
+  })
+})
+
+describe('interlocking', () => {
+  // Locking rule: 49 CFR 236.207 / 236.314 [P], detector locking [M] (REFERENCES.md §10). With nobody at the
+  // panel, SF1 (fiddle road 1 exit) shows proceed over T5 whenever the up approach is free, so T5 stays locked
+  // normal: 6M50 in fiddle road 2 waits for it, as a train at an interlocked junction waits for a signaller.
+  it('never throws a locked turnout: 6M50 waits in fiddle road 2 for T5, locked by SF1, and says so', { timeout: 60_000 }, () => {
+    const r = runWithEngine(demoLayout(), demoPlans(), { seed: 12, spadChance: 0, dropoutChance: 0.1 }, 1_200_000)
+    expect(r.engine.state().alarms.filter((a) => a.kind === 'turnout-under-lock')).toEqual([])
+    expect(r.sim.view().find((v) => v.headcode === '6M50')).toMatchObject({ blocks: ['FY2'], laps: 0 })
+    expect(r.log).toContain('6M50 waits in FY2: T5 is not set for FY2 (locked: SF1 reads over it)')
+    // 2T33, in fiddle road 4, waits likewise for T7, which SF3 reads over
+    expect(r.log).toContain('2T33 waits in FY4: T7 is not set for FY4 (locked: SF3 reads over it)')
+  })
+
+  it('once SF1 is held, as a signaller would to release T5, sets T5 for 6M50, which leaves; still no lock alarm', () => {
+    const layout = demoLayout()
+    const plans = demoPlans().filter((p) => p.headcode === '1F42' || p.headcode === '6M50')
+    const sim = new Simulation(layout, plans, { seed: 13, spadChance: 0, dropoutChance: 0 })
+    const engine = createEngine(layout)
+    const feedAll = (ps: Publish[]) => { for (const p of ps) feed(engine, p, p.at + 1) }
+    const aspects = () => Object.fromEntries(Object.entries(engine.indications()).map(([id, i]) => [id, i.aspect]))
+    feedAll(sim.start().publishes)
+    let heldAt: number | null = null
+    for (let t = 0; t < 900_000 && !sim.view()[1]!.blocks.includes('UM1'); t += 50) {
+      // hold SF1 once 1F42 has left fiddle road 1 and the up approach
+      if (heldAt === null && sim.view()[0]!.blocks.every((b) => b !== 'FY1' && b !== 'UM1') && sim.time() > 20_000) {
+        heldAt = sim.time()
+        engine.apply({ type: 'override', signal: 'SF1', mode: 'hold', at: sim.time() })
+        sim.setOverride('SF1', 'hold') // the indication Blockbell publishes carries the override
+      }
+      feedAll(sim.step(50, aspects()).publishes)
+    }
+    expect(heldAt).not.toBeNull()
+    expect(engine.state().turnouts.T5).toBe('reverse')
+    expect(sim.view()[1]!.blocks).toContain('UM1')
+    expect(engine.state().alarms).toEqual([])
+  })
+
+  it('leaves the turnouts of an area a signaller holds to them: its trains wait at the signal until the route is set', () => {
+    const layout = demoLayout()
+    const plans = demoPlans().filter((p) => p.headcode === '6M50')
+    const sim = new Simulation(layout, plans, { seed: 14, spadChance: 0, dropoutChance: 0 })
+    const engine = createEngine(layout)
+    const feedAll = (ps: Publish[]) => { for (const p of ps) feed(engine, p, p.at + 1) }
+    const aspects = () => Object.fromEntries(Object.entries(engine.indications()).map(([id, i]) => [id, i.aspect]))
+    expect(sim.setAreaHeld('main', true).log[0]!.text).toBe('area main is held by a signaller: its turnouts are left to them')
+    feedAll(sim.start().publishes)
+    const ps: Publish[] = []
+    for (let t = 0; t < 60_000; t += 50) ps.push(...sim.step(50, aspects()).publishes)
+    feedAll(ps)
+    // T5 (main line) lies normal; the train needs it reverse and does not throw it itself
+    expect(ps.filter((p) => p.topic.startsWith('turnout/'))).toEqual([])
+    expect(sim.view()[0]).toMatchObject({ blocks: ['FY2'], waitingFor: 'T5 is not set for FY2 (left to the signaller holding main)' })
+    // the signaller holds SF1 (it reads over T5), then sets the route: the train goes
+    engine.apply({ type: 'override', signal: 'SF1', mode: 'hold', at: sim.time() })
+    sim.setOverride('SF1', 'hold')
+    feedAll(sim.requestTurnout('T5', 'reverse', 'Tam Oakridge').publishes)
+    for (let t = 0; t < 30_000 && !sim.view()[0]!.blocks.includes('UM1'); t += 50) feedAll(sim.step(50, aspects()).publishes)
+    expect(sim.view()[0]!.blocks).toContain('UM1')
+    expect(engine.state().alarms).toEqual([])
+    // released again: the trains set the area's turnouts themselves
+    expect(sim.setAreaHeld('main', false).log[0]!.text).toBe('area main is free again: trains set its turnouts')
   })
 })
 
@@ -149,13 +222,15 @@ describe('keeping trains apart', () => {
   it.each([
     ['obeying signals, spad chance 1', { spadChance: 1, dropoutChance: 0.3 }],
     ['ignoring signals', { ignoreSignals: true, dropoutChance: 0.3 }],
-  ])('never puts two trains in one block (%s)', (_, opts) => {
+  ])('never puts two trains in one block (%s)', { timeout: 60_000 }, (_, opts) => {
     const r = runWithEngine(demoLayout(), demoPlans(), { seed: 21, ...opts }, 1_800_000, 50, true)
     for (const views of r.views) {
       const blocks = views.flatMap((v) => v.blocks)
       expect(new Set(blocks).size).toBe(blocks.length)
     }
-    expect(r.sim.view().every((v) => v.laps >= 3)).toBe(true)
+    // obeying signals, the trains that need a turnout an automatic signal locks wait (see interlocking below)
+    const moving = 'ignoreSignals' in opts ? r.sim.view() : r.sim.view().filter((v) => v.headcode === '1F42' || v.headcode === '2J01')
+    expect(moving.every((v) => v.laps >= 3)).toBe(true)
   })
 
   it('a train passing a signal at danger never runs into an occupied block', () => {
@@ -172,7 +247,7 @@ describe('keeping trains apart', () => {
 })
 
 describe('turnouts', () => {
-  it('sets every turnout a train runs through before the train reaches it', () => {
+  it('sets every turnout a train runs through before the train reaches it', { timeout: 30_000 }, () => {
     const layout = demoLayout()
     const topo = topologyOf(layout)
     const plans = demoPlans()
@@ -219,7 +294,7 @@ describe('turnouts', () => {
     expect(waitedFor).toBeLessThan(checked / 2)
   })
 
-  it('obeys a request to throw a turnout, and the trains leave it alone for a while', () => {
+  it('obeys a request to throw a turnout, even under a train; a train on it waits, the turnout being track-locked', () => {
     const layout = demoLayout()
     const sim = new Simulation(layout, [demoPlans()[0]!], { seed: 8, dropoutChance: 0, ignoreSignals: true })
     sim.start()
@@ -227,12 +302,28 @@ describe('turnouts', () => {
     const req = sim.requestTurnout('T4', 'reverse', 'Tam Oakridge')
     expect(req.publishes).toEqual([{ topic: 'turnout/T4', payload: 'reverse', retain: true, at: sim.time() }])
     expect(req.log[0]!.text).toBe('T4 thrown reverse on request by Tam Oakridge (under 1F42)')
+    // the trains never throw a turnout under a train (track locking): 1F42 waits on T4 until someone sets it
+    const stuck = runUntil(sim, {}, () => false, OPERATOR_HOLD_MS + 30_000)
+    expect(stuck.filter((p) => p.topic === 'turnout/T4')).toEqual([])
+    expect(sim.view()[0]).toMatchObject({ blocks: ['UM4'], waitingFor: 'T4 is not set for FY1 (locked: UM4 occupied)' })
+    expect(sim.requestTurnout('T4', 'normal').publishes).toHaveLength(1)
+    runUntil(sim, {}, () => sim.view()[0]!.blocks.includes('FY1'), 60_000)
+    expect(sim.view()[0]!.blocks).toContain('FY1')
+  })
+
+  it('leaves a turnout thrown on request alone for a while, then sets it for its train once it is free', () => {
+    const layout = demoLayout()
+    const sim = new Simulation(layout, [demoPlans()[0]!], { seed: 8, dropoutChance: 0, ignoreSignals: true })
+    sim.start()
+    runUntil(sim, {}, () => sim.view()[0]!.blocks.at(-1) === 'UM2', 120_000)
+    const req = sim.requestTurnout('T4', 'reverse', 'Tam Oakridge')
+    expect(req.log[0]!.text).toBe('T4 thrown reverse on request by Tam Oakridge')
     const requestedAt = sim.time()
     const ps = runUntil(sim, {}, () => sim.view()[0]!.blocks.includes('FY1'), 120_000)
     const thrownBack = ps.find((p) => p.topic === 'turnout/T4')!
     expect(thrownBack.payload).toBe('normal')
     expect(thrownBack.at - requestedAt).toBeGreaterThanOrEqual(OPERATOR_HOLD_MS)
-    const entered = ps.findIndex((p) => p.topic === 'detector/D13' && p.payload === '1')
+    const entered = ps.findIndex((p) => p.topic === 'detector/D13' && occupiedIn(p.payload))
     expect(entered).toBeGreaterThan(ps.indexOf(thrownBack))
     expect(sim.view()[0]!.blocks).toEqual(['UM4', 'FY1'])
   })
@@ -249,10 +340,11 @@ describe('turnouts', () => {
     const sim = new Simulation(demoLayout(), [branch], { seed: 10, dropoutChance: 0, ignoreSignals: true })
     const start = sim.start().publishes
     expect(start.filter((p) => p.topic.startsWith('turnout/')).every((p) => p.retain)).toBe(true)
-    // T7 (in DM1) is set at once for the move out of fiddle road 4: it is in the section of SF4
-    expect(start.at(-1)).toMatchObject({ topic: 'turnout/T7', payload: 'reverse' })
+    // T7 (in DM1) is set for the move out of fiddle road 4 before anything is reported: the first report says so
+    expect(start.filter((p) => p.topic === 'turnout/T7')).toEqual([expect.objectContaining({ payload: 'reverse' })])
+    expect(start.findIndex((p) => p.topic === 'turnout/T7')).toBeLessThan(start.findIndex((p) => p.topic.startsWith('detector/')))
     const ps = runUntil(sim, {}, () => sim.view()[0]!.laps === 1 && sim.view()[0]!.blocks[0] === 'FY4', 600_000, 50)
-    const trail = ps.map((p) => (p.topic.startsWith('turnout/') ? `${p.topic.slice(8)}:${p.payload}` : `${p.topic.slice(9)}=${p.payload}`))
+    const trail = ps.map((p) => (p.topic.startsWith('turnout/') ? `${p.topic.slice(8)}:${p.payload}` : `${p.topic.slice(9)}=${occupiedIn(p.payload) ? '1' : p.payload}`))
     // each turnout is set as the train enters the block of the signal whose section holds it
     expect(trail).toEqual([
       'D05=1', 'T1:reverse', 'D16=0', // into DM1; T1 (in DM2) set for the branch, section of SD1
@@ -269,7 +361,7 @@ describe('turnouts', () => {
 })
 
 describe('seeded runs', () => {
-  it('gives the same publishes for the same seed, and others for another seed', () => {
+  it('gives the same publishes for the same seed, and others for another seed', { timeout: 60_000 }, () => {
     const a = runWithEngine(demoLayout(), demoPlans(), { seed: 42, spadChance: 0.3 }, 900_000)
     const b = runWithEngine(demoLayout(), demoPlans(), { seed: 42, spadChance: 0.3 }, 900_000)
     const c = runWithEngine(demoLayout(), demoPlans(), { seed: 43, spadChance: 0.3 }, 900_000)

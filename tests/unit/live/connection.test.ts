@@ -59,6 +59,22 @@ describe('LiveConnection', () => {
     expect(view.state.descriptions.UM2).toBe('2J01')
   })
 
+  it('reads stale when the server goes quiet with the socket still open, and live again at its next word', async () => {
+    const run = new DemoRun()
+    const server = await startServer(run, { heartbeatMs: null })
+    servers.push(server)
+    const { link, states } = connect(server.url, { staleAfterMs: 150 })
+    await expect.poll(() => link.state).toBe('live')
+    await expect.poll(() => link.state, { timeout: 2000 }).toBe('stale')
+    expect(server.clients.size).toBe(1)
+    const serverAt = Date.now() + 60_000 // a server clock a minute ahead of this one
+    server.broadcast({ type: 'heartbeat', at: serverAt })
+    await expect.poll(() => link.state).toBe('live')
+    expect(states.slice(-2)).toEqual(['stale', 'live'])
+    // commands are stamped on the server's clock, as the heartbeat gave it
+    expect(Math.abs(link.serverNow() - (Date.now() + 60_000))).toBeLessThan(1000)
+  })
+
   it('reconnects after the link drops and takes a fresh snapshot with what it missed', async () => {
     const run = new DemoRun()
     const server = await startServer(run)

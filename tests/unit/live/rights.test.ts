@@ -1,7 +1,7 @@
 // Which controls the panel offers (README "Roles": signallers work the signals and turnouts of areas they
 // hold, admins may also force-release, viewers watch only). Demo layout areas: main (Main line), branch.
 import { describe, expect, it } from 'vitest'
-import { areaActions, handOverCandidates, interposeVerdict, signalVerdict, turnoutVerdict } from '#shared/live/rights'
+import { areaActions, areaOfBlock, areaVerdict, handOverCandidates, interposeVerdict, signalVerdict, turnoutVerdict } from '#shared/live/rights'
 import { ADA, MILO, RHEA, TAM, demoLayout } from '../../support/live-fixtures'
 
 const def = demoLayout()
@@ -20,6 +20,26 @@ describe('signal and turnout controls', () => {
   it('are never offered to a viewer, even one recorded as holder', () => {
     const v = signalVerdict(MILO, def, { main: MILO, branch: null }, 'SU3')
     expect(v).toMatchObject({ allowed: false, reason: 'You are signed in as a viewer: you can watch, not operate.' })
+  })
+})
+
+describe('demo areas', () => {
+  it('put the up and down main through Wrenfold Junction with the Main line, the platforms with the station', () => {
+    const area = (b: string) => areaOfBlock(def, b)?.id
+    expect(['UM1', 'UM3', 'UM4', 'DM1', 'DM2', 'DM4'].map(area)).toEqual(['main', 'main', 'main', 'main', 'main', 'main'])
+    expect(['UM2', 'DM3', 'CP'].map(area)).toEqual(['branch', 'branch', 'branch'])
+  })
+})
+
+describe('unattended areas', () => {
+  it('may be taken by another signaller, who is told whose it was; not by a viewer', () => {
+    const main = def.areas.find(a => a.id === 'main')!
+    const holders = { main: TAM, branch: null }
+    expect(areaVerdict(RHEA, holders, main, 'take').allowed).toBe(false)
+    expect(areaVerdict(RHEA, holders, main, 'take', { main: 1 }).allowed).toBe(true)
+    expect(areaVerdict(MILO, holders, main, 'take', { main: 1 }).allowed).toBe(false)
+    expect(areaActions(RHEA, holders, main, { main: 1 })).toMatchObject({ take: true, takeOver: true, note: expect.stringContaining('Unattended: Tam Oakridge') })
+    expect(areaActions(RHEA, holders, main)).toMatchObject({ take: false, takeOver: false })
   })
 })
 

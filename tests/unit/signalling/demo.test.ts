@@ -114,8 +114,12 @@ describe('one train through the demo layout', () => {
     ['clears the down connection', off('JD', 62), []],
     ['passes Carrowmere home into the platform', on('CP', 80), ['SB1 R']],
     ['clears the branch: junction home shows caution with its indicator', off('BR', 85), ['SD1 Y(1)']],
-    ['branch turnout reversed for the return', turn('T3', 'reverse', 90), ['SD1 R', 'SB2 Y']],
-    ['up junction set for the branch', turn('T2', 'reverse', 95), ['SU1 Y', 'SU2 R', 'SB2 G', 'SB3 G']],
+    // the junction home reads over T3 at caution: the signaller holds it before throwing T3 (route locking)
+    ['junction home held to release the branch turnout', { type: 'override', signal: 'SD1', mode: 'hold', at: at(88), by: 'demo' }, ['SD1 R']],
+    ['branch turnout reversed for the return', turn('T3', 'reverse', 90), ['SB2 Y']],
+    // the up starter reads over T2 (in UM3): held first, then the junction is set for the branch
+    ['up starter held to release the up junction', { type: 'override', signal: 'SU2', mode: 'hold', at: at(92), by: 'demo' }, ['SU1 Y', 'SU2 R']],
+    ['up junction set for the branch', turn('T2', 'reverse', 95), ['SB2 G', 'SB3 G']],
     ['departs Carrowmere past the starter', on('BR', 110), ['SB2 R']],
     ['clears the platform', off('CP', 114), ['SB1 Y']],
     ['takes the branch up connection', on('JU', 130), []],

@@ -1,173 +1,10 @@
 // Property tests on random layouts and random event sequences.
 import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
-import { applyEvent, computeIndications, createEngine, initialState, validateLayout } from '#shared/signalling'
-import type { Change, Layout, LayoutEvent, LayoutState } from '#shared/signalling'
+import { applyEvent, computeIndications, createEngine, initialState, turnoutLock } from '#shared/signalling'
+import type { Layout, LayoutState } from '#shared/signalling'
 import { run } from './build'
-
-type Kind = 'two-aspect' | 'three-aspect' | 'four-aspect' | 'distant'
-const KINDS: Kind[] = ['two-aspect', 'three-aspect', 'four-aspect', 'distant']
-
-interface Plan {
-  n: number
-  shape: 'line' | 'loop' | 'both-ways'
-  spurs: { at: number; len: number; rejoin: number | null }[]
-  signalAt: boolean[]
-  kinds: number[]
-  endOfLine: boolean[]
-  twoDetectors: boolean[]
-  indicator: boolean
-}
-
-/** Builds a layout from a plan: a main line (open, loop, or worked both ways) with branches leaving and rejoining it. */
-function build(plan: Plan): Layout | null {
-  const { n, shape } = plan
-  const blocks: { id: string; name: string; lengthMm: number; detectors: string[] }[] = []
-  const addBlock = (id: string) => {
-    const k = blocks.length
-    const detectors = plan.twoDetectors[k % plan.twoDetectors.length] ? [`${id}a`, `${id}b`] : [`${id}a`]
-    blocks.push({ id, name: id, lengthMm: 600 + 97 * k, detectors })
-  }
-  const links: { from: string; to: string }[] = []
-  const turnouts: { id: string; block: string; normal: string; reverse: string }[] = []
-  for (let i = 0; i < n; i++) addBlock(`M${i}`)
-  const next = (i: number) => (i + 1 < n ? i + 1 : shape === 'loop' ? 0 : null)
-  const prev = (i: number) => (i > 0 ? i - 1 : shape === 'loop' ? n - 1 : null)
-  for (let i = 0; i < n; i++) {
-    const j = next(i)
-    if (j !== null) {
-      links.push({ from: `M${i}`, to: `M${j}` })
-      if (shape === 'both-ways') links.push({ from: `M${j}`, to: `M${i}` })
-    }
-  }
-  if (shape !== 'both-ways') {
-    const facingUsed = new Set<number>()
-    const trailingUsed = new Set<number>()
-    plan.spurs.forEach((s, k) => {
-      const at = s.at % n
-      const main = next(at)
-      if (main === null || facingUsed.has(at)) return
-      facingUsed.add(at)
-      const ids = Array.from({ length: s.len }, (_, x) => `X${k}_${x}`)
-      ids.forEach(addBlock)
-      links.push({ from: `M${at}`, to: ids[0]! })
-      for (let x = 1; x < ids.length; x++) links.push({ from: ids[x - 1]!, to: ids[x]! })
-      turnouts.push({ id: `TF${k}`, block: `M${at}`, normal: `M${main}`, reverse: ids[0]! })
-      if (s.rejoin !== null) {
-        const r = s.rejoin % n
-        const p = prev(r)
-        if (p !== null && !trailingUsed.has(r)) {
-          trailingUsed.add(r)
-          links.push({ from: ids[ids.length - 1]!, to: `M${r}` })
-          turnouts.push({ id: `TT${k}`, block: `M${r}`, normal: `M${p}`, reverse: ids[ids.length - 1]! })
-        }
-      }
-    })
-  }
-  const signals: Record<string, unknown>[] = []
-  links.forEach((l, i) => {
-    if (!plan.signalAt[i % plan.signalAt.length]) return
-    const kind = KINDS[plan.kinds[i % plan.kinds.length]! % KINDS.length]!
-    const s: Record<string, unknown> = { id: `S${i}`, name: `S${i}`, kind, from: l.from, protects: l.to }
-    s.endOfLine = plan.endOfLine[i % plan.endOfLine.length] ? 'clear-ahead' : 'danger-ahead'
-    const t = turnouts.find((x) => x.block === l.to && x.id.startsWith('TF'))
-    if (plan.indicator && t && kind !== 'distant') s.indicators = { [t.reverse]: '4' }
-    signals.push(s)
-  })
-  const r = validateLayout({ schema: 1, name: 'random', scale: { name: 'HO', ratio: 87.1 }, blocks, links, turnouts, signals })
-  return r.ok ? r.layout : null
-}
-
-const planArb: fc.Arbitrary<Plan> = fc.record({
-  n: fc.integer({ min: 2, max: 9 }),
-  shape: fc.constantFrom('line' as const, 'loop' as const, 'both-ways' as const),
-  spurs: fc.array(
-    fc.record({ at: fc.nat(20), len: fc.integer({ min: 1, max: 3 }), rejoin: fc.option(fc.nat(20), { nil: null }) }),
-    { maxLength: 3 },
-  ),
-  signalAt: fc.array(fc.boolean(), { minLength: 1, maxLength: 8 }),
-  kinds: fc.array(fc.nat(3), { minLength: 1, maxLength: 8 }),
-  endOfLine: fc.array(fc.boolean(), { minLength: 1, maxLength: 4 }),
-  twoDetectors: fc.array(fc.boolean(), { minLength: 1, maxLength: 4 }),
-  indicator: fc.boolean(),
-})
-
-const layoutArb = planArb.map(build).filter((l): l is Layout => l !== null)
-
-/** Random events for a layout: mostly detector reports, with turnouts, overrides, descriptions, acknowledgements and bad input. */
-function eventsArb(layout: Layout): fc.Arbitrary<LayoutEvent[]> {
-  const detectors = layout.blocks.flatMap((b) => b.detectors)
-  const pick = <T,>(xs: T[]) => fc.nat(1000).map((i) => xs[i % xs.length]!)
-  const turnouts = layout.turnouts.map((t) => t.id)
-  const signals = layout.signals.map((s) => s.id)
-  const one: fc.Arbitrary<(at: number) => LayoutEvent> = fc.oneof(
-    { weight: 10, arbitrary: fc.tuple(pick(detectors), fc.boolean()).map(([detector, occupied]) => (at: number) => ({ type: 'detector' as const, detector, occupied, at })) },
-    {
-      weight: turnouts.length ? 3 : 0,
-      arbitrary: fc
-        .tuple(pick(turnouts.length ? turnouts : ['none']), fc.constantFrom('normal' as const, 'reverse' as const, 'unknown' as const))
-        .map(([turnout, position]) => (at: number) => ({ type: 'turnout' as const, turnout, position, at })),
-    },
-    {
-      weight: signals.length ? 2 : 0,
-      arbitrary: fc
-        .tuple(pick(signals.length ? signals : ['none']), fc.constantFrom('hold' as const, 'auto' as const, 'clear' as const))
-        .map(([signal, mode]) => (at: number) => ({ type: 'override' as const, signal, mode, at, by: 'p' })),
-    },
-    {
-      weight: 2,
-      arbitrary: fc
-        .tuple(pick(layout.blocks.map((b) => b.id)), fc.constantFrom('1A01', '2B02', '', '3C03'))
-        .map(([block, description]) => (at: number) => ({ type: 'interpose' as const, block, description, at })),
-    },
-    { weight: 1, arbitrary: fc.nat(4).map((k) => (at: number) => ({ type: 'acknowledge' as const, alarm: `spad-${k}`, at })) },
-    {
-      weight: 1,
-      arbitrary: fc.constantFrom(
-        (at: number) => ({ type: 'detector', detector: 'nowhere', occupied: true, at }) as LayoutEvent,
-        (at: number) => ({ type: 'turnout', turnout: 'nowhere', position: 'normal', at }) as LayoutEvent,
-        (at: number) => ({ type: 'detector', detector: detectors[0], occupied: 'yes', at }) as unknown as LayoutEvent,
-        (at: number) => ({ type: 'override', signal: 'toString', mode: 'hold', at }) as LayoutEvent,
-        () => ({ type: 'detector', detector: detectors[0], occupied: true, at: Number.NaN }) as LayoutEvent,
-        () => ({ type: 'launch' }) as unknown as LayoutEvent,
-      ),
-    },
-  )
-  // a train run: a train appears in a block, may be described, and runs on block by block along random links
-  const firstDetector = new Map(layout.blocks.map((b) => [b.id, b.detectors[0]!]))
-  const outs = new Map(layout.blocks.map((b) => [b.id, layout.links.filter((l) => l.from === b.id).map((l) => l.to)]))
-  const trainRun: fc.Arbitrary<((at: number) => LayoutEvent)[]> = fc
-    .tuple(pick(layout.blocks.map((b) => b.id)), fc.boolean(), fc.array(fc.nat(7), { minLength: 1, maxLength: 8 }))
-    .map(([start, described, choices]) => {
-      const det = (b: string, occupied: boolean) => (at: number) => ({ type: 'detector' as const, detector: firstDetector.get(b)!, occupied, at })
-      const evs: ((at: number) => LayoutEvent)[] = [det(start, true)]
-      if (described) evs.push((at) => ({ type: 'interpose', block: start, description: '9Z99', at }))
-      let cur = start
-      for (const c of choices) {
-        const o = outs.get(cur)!
-        if (!o.length) break
-        const nb = o[c % o.length]!
-        evs.push(det(nb, true), det(cur, false))
-        cur = nb
-      }
-      return evs
-    })
-  const segment = fc.oneof({ weight: 3, arbitrary: one.map((e) => [e]) }, { weight: 1, arbitrary: trainRun })
-  return fc.array(fc.tuple(segment, fc.integer({ min: 0, max: 20_000 })), { minLength: 3, maxLength: 25 }).map((xs) => {
-    let at = 1_700_000_000_000
-    return xs.flatMap(([mks, dt]) => mks.map((mk) => mk((at += dt))))
-  })
-}
-
-const scenarioArb = layoutArb.chain((layout) => fc.tuple(fc.constant(layout), eventsArb(layout)))
-
-function deepFreeze<T>(o: T): T {
-  if (o && typeof o === 'object' && !Object.isFrozen(o)) {
-    Object.freeze(o)
-    for (const v of Object.values(o)) deepFreeze(v)
-  }
-  return o
-}
+import { deepFreeze, lockedMoveExample, scenarioArb } from './random-layouts'
 
 /**
  * The section of a signal as Blockbell defines it, traced independently of the engine: from `protects` along the set
@@ -295,7 +132,7 @@ describe('applyEvent on random layouts and event sequences', () => {
           const r = applyEvent(layout, state, e)
           const shownBefore = computeIndications(layout, state)
           for (const c of r.changes) {
-            if (c.type === 'alarm') {
+            if (c.type === 'alarm' && c.alarm.kind === 'spad') {
               expect(shownBefore[c.alarm.signal]!.aspect).toBe('danger')
               const sig = layout.signals.find((s) => s.id === c.alarm.signal)!
               expect(sig.protects).toBe(c.alarm.block)
@@ -310,10 +147,52 @@ describe('applyEvent on random layouts and event sequences', () => {
       RUNS,
     )
   })
+
+  it('raises a turnout-under-lock alarm exactly when a reported move finds the turnout locked, and applies the move anyway', () => {
+    // The rule (49 CFR 236.207 / 236.314 [P], REFERENCES.md §10): no throw while the turnout's block is occupied
+    // (track locking) or while a stop signal whose route runs over it shows anything but stop (route locking).
+    // Checked here against the independent section tracer of this file, not the engine's own.
+    let seen = 0
+    fc.assert(
+      fc.property(scenarioArb, ([layout, events]) => {
+        let state = initialState(layout)
+        for (const e of events) {
+          const r = applyEvent(layout, state, e)
+          const t = e.type === 'turnout' ? layout.turnouts.find((x) => x.id === e.turnout) : undefined
+          const alarms = r.changes.flatMap((c) => (c.type === 'alarm' && c.alarm.kind === 'turnout-under-lock' ? [c.alarm] : []))
+          if (t && e.type === 'turnout' && state.turnouts[t.id] !== e.position) {
+            const shown = computeIndications(layout, state)
+            const signal = state.occupied[t.block]
+              ? null
+              : layout.signals.find((s) => s.kind !== 'distant' && shown[s.id]!.aspect !== 'danger' && referenceSection(layout, state, s).blocks.includes(t.block))?.id ?? null
+            // a first report (from unknown) is not a move and raises nothing
+            const locked = state.turnouts[t.id] !== 'unknown' && (state.occupied[t.block] === true || signal !== null)
+            const lock = turnoutLock(layout, state, t.id)
+            const lockedNow = state.occupied[t.block] === true || signal !== null
+            expect(lock === null ? null : lock.reason === 'occupied' ? 'occupied' : lock.signal).toBe(lockedNow ? (signal ?? 'occupied') : null)
+            expect(r.state.turnouts[t.id]).toBe(e.position)
+            if (locked) {
+              seen++
+              expect(alarms).toHaveLength(1)
+              expect(alarms[0]).toMatchObject({ turnout: t.id, block: t.block, signal, description: state.descriptions[t.block] ?? null, acknowledgedAt: null })
+            } else {
+              expect(alarms).toEqual([])
+            }
+          } else {
+            expect(alarms).toEqual([])
+          }
+          state = r.state
+        }
+      }),
+      { ...RUNS, examples: [[lockedMoveExample()]] },
+    )
+    expect(seen).toBeGreaterThan(0)
+  })
 })
 
 describe('createEngine', () => {
-  it('agrees with applyEvent on every event sequence', () => {
+  it('agrees with applyEvent on every event sequence, turnout-under-lock alarms included', () => {
+    let lockAlarms = 0
     fc.assert(
       fc.property(scenarioArb, ([layout, events]) => {
         const engine = createEngine(layout)
@@ -325,10 +204,13 @@ describe('createEngine', () => {
           expect(engine.apply(e)).toEqual(r.changes)
           expect(engine.state()).toEqual(state)
           expect(engine.indications()).toEqual(computeIndications(layout, state))
+          for (const t of layout.turnouts) expect(turnoutLock(layout, engine.state(), t.id)).toEqual(turnoutLock(layout, state, t.id))
+          lockAlarms += r.changes.filter((c) => c.type === 'alarm' && c.alarm.kind === 'turnout-under-lock').length
         }
       }),
-      RUNS,
+      { ...RUNS, examples: [[lockedMoveExample()]] },
     )
+    expect(lockAlarms).toBeGreaterThan(0)
   })
 
   it('continues from a given state without changing it', () => {

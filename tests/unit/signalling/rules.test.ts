@@ -440,6 +440,73 @@ describe('train descriptions', () => {
     expect(state.descriptions).toEqual({ W: '2B20' })
   })
 
+  // Berth stepping (docs/sources.md §5: a CA Berth Step moves a description on when the stepping conditions
+  // hold); the condition used here — the rear block clears while the block ahead on the set route is occupied
+  // and undescribed, i.e. a train standing across both — is our own rule.
+  it('moves on from a cleared block into the occupied, undescribed block ahead (train standing across two)', () => {
+    const layout = line(3, 'three-aspect')
+    const { state, changes } = run(layout, [
+      occ(layout, 'B0', 1000),
+      occ(layout, 'B1', 1100),
+      { type: 'interpose', block: 'B0', description: '2J01', at: 1500 },
+      clr(layout, 'B0', 3000),
+    ])
+    expect(state.descriptions).toEqual({ B1: '2J01' })
+    expect(descriptions(changes).slice(1)).toEqual([
+      { type: 'description', block: 'B1', description: '2J01', reason: 'step', from: 'B0', at: 3000 },
+      { type: 'description', block: 'B0', description: null, reason: 'clear', at: 3000 },
+    ])
+  })
+
+  it('does not move on into a block ahead that already has its own description', () => {
+    const layout = line(3, 'three-aspect')
+    const { state, changes } = run(layout, [
+      occ(layout, 'B0', 1000),
+      occ(layout, 'B1', 1100),
+      { type: 'interpose', block: 'B1', description: '1A40', at: 1200 },
+      { type: 'interpose', block: 'B0', description: '2J01', at: 1500 },
+      clr(layout, 'B0', 3000),
+    ])
+    expect(state.descriptions).toEqual({ B1: '1A40' })
+    expect(descriptions(changes).at(-1)).toEqual({ type: 'description', block: 'B0', description: null, reason: 'lost', lost: '2J01', at: 3000 })
+  })
+
+  it('does not move on across a turnout set against the route, and says the description was lost', () => {
+    // trailing junction: A and C both lead into M through turnout T (normal leg A, reverse leg C)
+    const layout = layoutOf({
+      blocks: ['A', 'C', 'M'].map((b) => block(b)),
+      links: links('A>M', 'C>M'),
+      turnouts: [{ id: 'T', block: 'M', normal: 'A', reverse: 'C' }],
+      signals: [sig('SA', 'two-aspect', 'A', 'M'), sig('SC', 'two-aspect', 'C', 'M')],
+    })
+    const { state, changes } = run(layout, [
+      set('T', 'reverse', 5),
+      occ(layout, 'A', 10),
+      occ(layout, 'M', 20),
+      { type: 'interpose', block: 'A', description: '1A01', at: 30 },
+      clr(layout, 'A', 40),
+    ])
+    expect(state.descriptions).toEqual({})
+    expect(descriptions(changes).at(-1)).toMatchObject({ block: 'A', reason: 'lost', lost: '1A01' })
+  })
+
+  it('a description that stepped on normally is cleared from the old berth, not reported lost', () => {
+    const layout = line(2, 'two-aspect')
+    const { changes } = run(layout, [
+      occ(layout, 'B0', 0),
+      { type: 'interpose', block: 'B0', description: '2J01', at: 1 },
+      occ(layout, 'B1', 10),
+      clr(layout, 'B0', 20),
+    ])
+    expect(changes.some((c) => c.type === 'description' && c.reason === 'lost')).toBe(false)
+  })
+
+  it('a described train that vanishes from the detectors is reported lost', () => {
+    const layout = line(2, 'two-aspect')
+    const { changes } = run(layout, [occ(layout, 'B1', 0), { type: 'interpose', block: 'B1', description: '5X99', at: 1 }, clr(layout, 'B1', 20)])
+    expect(descriptions(changes).at(-1)).toEqual({ type: 'description', block: 'B1', description: null, reason: 'lost', lost: '5X99', at: 20 })
+  })
+
   it('refuses a description longer than 16 characters', () => {
     const layout = line(1, 'two-aspect')
     const r = applyEvent(layout, initialState(layout), { type: 'interpose', block: 'B1', description: 'x'.repeat(17), at: 1 })

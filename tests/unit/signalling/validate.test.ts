@@ -164,3 +164,22 @@ describe('validateLayout', () => {
     expect(errorsOf(d).map((e) => e.path)).toEqual(['links[3].to', 'areas[0].signals[1]'])
   })
 })
+
+describe('decoder table', () => {
+  // DCC decoder addresses 1-10239 (NMRA S-9.2.1, from memory); RailCom detectors report them (NMRA S-9.3.2)
+  const base = { schema: 1, name: 'd', scale: { name: 'OO', ratio: 76.2 }, blocks: [{ id: 'B', name: 'B', lengthMm: 1000, detectors: ['dB'] }], links: [] }
+  it('accepts addresses 1 to 10239 with headcode-like descriptions, one description per address', () => {
+    expect(validateLayout({ ...base, decoders: [{ address: 1, description: '1F42' }, { address: 10239, description: '2J01' }] }).ok).toBe(true)
+    const r = validateLayout({ ...base, decoders: [{ address: 3, description: '1F42' }, { address: 3, description: '2J01' }, { address: 10240, description: 'x' }] })
+    expect(r.ok).toBe(false)
+    if (r.ok) return
+    expect(r.errors.map(e => `${e.path}: ${e.message}`)).toEqual(expect.arrayContaining([
+      'decoders[2].address: a decoder address is 1 to 10239',
+      expect.stringMatching(/^decoders\[2\]\.description: /),
+    ]))
+  })
+  it('names the second entry of a repeated address', () => {
+    const r = validateLayout({ ...base, decoders: [{ address: 3, description: '1F42' }, { address: 3, description: '2J01' }] })
+    expect(r.ok ? [] : r.errors).toEqual([{ path: 'decoders[1].address', message: 'address 3 is already listed at decoders[0]' }])
+  })
+})

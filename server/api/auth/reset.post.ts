@@ -1,0 +1,7 @@
+import { ResetPasswordBody } from '#shared/schemas/mail'
+
+export default defineEventHandler(async (event) => {
+  const body = await parseBody(event, ResetPasswordBody)
+  await resetPassword(body)
+  return { reset: true }
+})

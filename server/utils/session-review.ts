@@ -1,0 +1,233 @@
+import { Transform, type Readable } from 'node:stream'
+import { QueryTypes } from 'sequelize'
+import type pg from 'pg'
+import QueryStream from 'pg-query-stream'
+import { stringify } from 'csv-stringify'
+import type { Layout } from '#shared/schemas/layout'
+import { namesOf, type LayoutNames } from '#shared/live/feed'
+import { describeJournalRow } from '#shared/live/journal-text'
+import { areaIntervals, type AreaCommand } from '#shared/live/session-areas'
+import { buildTimeDistance } from '#shared/live/session-graph'
+import type { SessionEventsQuery } from '#shared/schemas/session'
+import type { GraphData, JournalPayload, SessionEventRow, SessionEventsPage, SessionSummary } from '#shared/types/sessions'
+import type { CheckpointState } from '../live/session-replay'
+
+interface EventRow { id: string, at: Date, type: string, subject: string | null, payload: JournalPayload, user_id: number | null }
+
+async function peopleNames(): Promise<Map<number, string>> {
+  const users = await useDatabase().models.User.findAll({ attributes: ['id', 'name'] })
+  return new Map(users.map(u => [u.id, u.name]))
+}
+
+function personLookup(people: Map<number, string>) {
+  return (id: unknown) => {
+    const n = Number(id)
+    return Number.isInteger(n) ? people.get(n) ?? null : null
+  }
+}
+
+const iso = (ms: number) => new Date(ms).toISOString()
+
+export async function sessionSummary(sessionId: number, layout: Layout, startedAt: number, endAt: number): Promise<SessionSummary> {
+  const db = useDatabase()
+  const q = <T extends object>(sql: string) => db.sequelize.query<T>(sql, { replacements: { sessionId }, type: QueryTypes.SELECT })
+  const names = namesOf(layout)
+  const people = await peopleNames()
+  const person = personLookup(people)
+
+  const [start] = await q<{ state: CheckpointState }>(`SELECT state FROM session_checkpoints WHERE session_id = :sessionId AND event_id = 0`)
+  const areaRows = await q<EventRow>(`SELECT id, at, type, subject, payload, user_id FROM events WHERE session_id = :sessionId AND type = 'command'
+    AND payload->>'action' IN ('take-area', 'release-area', 'force-release', 'hand-over') ORDER BY id`)
+  const commands: AreaCommand[] = areaRows.map(r => ({ at: r.at.getTime(), area: String(r.payload.area), action: String(r.payload.action), userId: r.user_id, to: r.payload.to ?? null }))
+  const areas = areaIntervals(start?.state.areas ?? {}, startedAt, commands, endAt).map(i => ({
+    area: i.area, areaName: names.area(i.area), person: people.get(i.userId) ?? `person ${i.userId}`,
+    from: iso(i.from), to: iso(i.to), seconds: Math.round((i.to - i.from) / 1000),
+  }))
+
+  const commandCounts = await q<{ kind: string, user_id: number | null, count: string }>(`SELECT payload->>'action' AS kind, user_id, count(*) AS count
+    FROM events WHERE session_id = :sessionId AND type = 'command' GROUP BY 1, 2 ORDER BY 1, 2`)
+
+  const steps = await q<{ description: string, moves: string, blocks: string[], first_at: Date, last_at: Date }>(`
+    SELECT payload->>'description' AS description, count(*) FILTER (WHERE payload->>'reason' = 'step') AS moves,
+      array_agg(subject ORDER BY id) AS blocks, min(at) AS first_at, max(at) AS last_at
+    FROM events WHERE session_id = :sessionId AND type = 'description' AND payload->>'description' IS NOT NULL
+    GROUP BY 1 ORDER BY min(at)`)
+
+  const alarms = await q<{ payload: JournalPayload }>(`SELECT payload FROM events WHERE session_id = :sessionId AND type = 'alarm' AND coalesce(payload#>>'{alarm,kind}', 'spad') = 'spad' ORDER BY id`)
+  const acks = await q<{ payload: JournalPayload, user_id: number | null }>(`SELECT payload, user_id FROM events WHERE session_id = :sessionId AND type = 'alarm-acknowledged' ORDER BY id`)
+  const ackOf = new Map(acks.map(a => [String(a.payload.alarm?.id), a]))
+  const dangerPasses = alarms.map(({ payload }) => {
+    const a = payload.alarm ?? {}
+    const ack = ackOf.get(String(a.id))
+    const ackAt = ack?.payload.alarm?.acknowledgedAt ?? null
+    return {
+      alarm: String(a.id), signal: String(a.signal), block: String(a.block), description: a.description ?? null, at: iso(a.at),
+      acknowledgedAt: ackAt === null ? null : iso(ackAt),
+      secondsToAcknowledge: ackAt === null ? null : Math.round((ackAt - a.at) / 100) / 10,
+      acknowledgedBy: ack ? person(ack.payload.alarm?.acknowledgedBy) ?? person(ack.user_id) : null,
+    }
+  })
+
+  const dropouts = await q<{ block: string, count: string }>(`SELECT subject AS block, count(*) AS count FROM events
+    WHERE session_id = :sessionId AND type = 'dropout' GROUP BY 1 ORDER BY 2 DESC, 1`)
+  const speeds = await q<{ at: Date, payload: JournalPayload }>(`SELECT at, payload FROM events WHERE session_id = :sessionId AND type = 'speed' ORDER BY id LIMIT 5000`)
+  const [{ count }] = await q<{ count: string }>(`SELECT count(*) FROM events WHERE session_id = :sessionId`) as [{ count: string }]
+
+  return {
+    durationSeconds: Math.max(0, Math.round((endAt - startedAt) / 1000)),
+    events: Number(count),
+    areas,
+    commands: commandCounts.map(c => ({ kind: c.kind, person: c.user_id === null ? null : people.get(c.user_id) ?? null, count: Number(c.count) })),
+    trains: steps.map(s => ({
+      description: s.description, moves: Number(s.moves), blocks: [...new Set(s.blocks)].map(b => names.block(b)),
+      firstAt: s.first_at.toISOString(), lastAt: s.last_at.toISOString(),
+    })),
+    dangerPasses,
+    dropouts: dropouts.map(d => ({ block: d.block, blockName: names.block(d.block), count: Number(d.count) })),
+    speeds: speeds.map(({ at, payload: p }) => ({
+      description: p.description, block: p.block, blockName: names.block(p.block), at: at.toISOString(),
+      lengthMm: p.lengthMm, seconds: p.seconds, kmh: p.kmh, mph: p.mph,
+    })),
+    scale: { name: layout.scale.name, ratio: layout.scale.ratio },
+  }
+}
+
+// ---- the event log ----
+
+interface Cursor { order: 'asc' | 'desc', id: string }
+
+export function encodeEventCursor(c: Cursor): string {
+  return Buffer.from(`${c.order}:${c.id}`).toString('base64url')
+}
+
+function decodeEventCursor(text: string, order: 'asc' | 'desc'): Cursor {
+  const m = /^(asc|desc):(\d{1,19})$/.exec(Buffer.from(text, 'base64url').toString())
+  if (!m) throw createError({ statusCode: 400, message: 'after: not a cursor from a previous page', data: { issues: [{ path: 'after', message: 'not a cursor from a previous page' }] } })
+  if (m[1] !== order) throw createError({ statusCode: 400, message: 'after: this cursor belongs to the other sort order', data: { issues: [{ path: 'after', message: 'belongs to the other sort order' }] } })
+  return { order, id: m[2]! }
+}
+
+const badFilter = (path: string, message: string) =>
+  createError({ statusCode: 400, message: `${path}: ${message}`, data: { issues: [{ path, message }] } })
+
+/** SQL conditions of the log's filters (shared by the page and the CSV export). */
+function eventFilters(layout: Layout, q: Omit<SessionEventsQuery, 'limit' | 'after' | 'order'>) {
+  const where = ['session_id = :sessionId']
+  const replacements: Record<string, unknown> = {}
+  if (q.kind) { where.push('type = :kind'); replacements.kind = q.kind }
+  if (q.block) {
+    const block = layout.blocks.find(b => b.id === q.block)
+    if (!block) throw badFilter('block', `there is no block "${q.block}" on this layout`)
+    where.push('subject IN (:blockSubjects)')
+    replacements.blockSubjects = [block.id, ...block.detectors]
+  }
+  if (q.signal) {
+    if (!layout.signals.some(s => s.id === q.signal)) throw badFilter('signal', `there is no signal "${q.signal}" on this layout`)
+    where.push('subject = :signal'); replacements.signal = q.signal
+  }
+  if (q.description) { where.push(`COALESCE(payload->>'description', payload#>>'{alarm,description}') = :description`); replacements.description = q.description }
+  if (q.user) { where.push('user_id = :user'); replacements.user = q.user }
+  if (q.from !== undefined) { where.push('at >= :from'); replacements.from = new Date(q.from) }
+  if (q.to !== undefined) { where.push('at <= :to'); replacements.to = new Date(q.to) }
+  return { where, replacements }
+}
+
+/** The log names signals and blocks by id (what its filters take); areas by name. */
+function logNames(layout: Layout): LayoutNames {
+  const names = namesOf(layout)
+  return { block: id => id, signal: id => id, area: names.area }
+}
+
+function toEventRow(names: LayoutNames, people: Map<number, string>, r: EventRow): SessionEventRow {
+  const who = r.user_id === null ? null : people.get(r.user_id) ?? null
+  return {
+    id: String(r.id), at: r.at.toISOString(), kind: r.type, subject: r.subject, person: who,
+    text: describeJournalRow(names, { type: r.type, subject: r.subject, payload: r.payload, person: who }, personLookup(people)),
+  }
+}
+
+/** One page of a session's log: keyset on the event id (no OFFSET), so a page is as fast at the end as at the start. */
+export async function sessionEventsPage(sessionId: number, layout: Layout, q: SessionEventsQuery): Promise<SessionEventsPage> {
+  const { where, replacements } = eventFilters(layout, q)
+  if (q.after) {
+    const cursor = decodeEventCursor(q.after, q.order)
+    where.push(q.order === 'asc' ? 'id > :afterId' : 'id < :afterId')
+    replacements.afterId = cursor.id
+  }
+  const rows = await useDatabase().sequelize.query<EventRow>(
+    `SELECT id, at, type, subject, payload, user_id FROM events WHERE ${where.join(' AND ')} ORDER BY id ${q.order === 'asc' ? 'ASC' : 'DESC'} LIMIT :limit`,
+    { replacements: { ...replacements, sessionId, limit: q.limit + 1 }, type: QueryTypes.SELECT })
+  const more = rows.length > q.limit
+  const page = rows.slice(0, q.limit)
+  const names = logNames(layout)
+  const people = await peopleNames()
+  return {
+    rows: page.map(r => toEventRow(names, people, r)),
+    next: more ? encodeEventCursor({ order: q.order, id: String(page[page.length - 1]!.id) }) : null,
+  }
+}
+
+export const CSV_COLUMNS = ['id', 'time', 'kind', 'subject', 'person', 'text', 'payload'] as const
+
+/**
+ * The filtered log as CSV (RFC 4180: CRLF line ends, fields with commas, quotes or line breaks quoted, quotes
+ * doubled), read through a database cursor a batch at a time: memory stays flat whatever the log's length.
+ */
+export async function sessionCsvStream(sessionId: number, layout: Layout, q: Omit<SessionEventsQuery, 'limit' | 'after' | 'order'>): Promise<Readable> {
+  const { where, replacements } = eventFilters(layout, q)
+  const names = logNames(layout)
+  const people = await peopleNames()
+  // pg-query-stream takes $n parameters: turn the named ones into them.
+  const values: unknown[] = []
+  const sql = `SELECT id, at, type, subject, payload, user_id FROM events WHERE ${where.join(' AND ')} ORDER BY id`
+    .replace(/:(\w+)/g, (_m, name: string) => {
+      const v = name === 'sessionId' ? sessionId : replacements[name]
+      if (Array.isArray(v)) return v.map((x) => { values.push(x); return `$${values.length}` }).join(', ')
+      values.push(v)
+      return `$${values.length}`
+    })
+  const manager = useDatabase().sequelize.connectionManager as unknown as { getConnection(o: object): Promise<pg.PoolClient>, releaseConnection(c: pg.PoolClient): Promise<void> }
+  const client = await manager.getConnection({ type: 'read' })
+  let released = false
+  const release = () => {
+    if (released) return
+    released = true
+    void manager.releaseConnection(client)
+  }
+  const rows: Readable = client.query(new QueryStream(sql, values, { batchSize: 500, highWaterMark: 500 }))
+  const toRecord = new Transform({
+    objectMode: true,
+    transform(r: EventRow, _enc, done) {
+      const row = toEventRow(names, people, r)
+      done(null, [row.id, row.at, row.kind, row.subject ?? '', row.person ?? '', row.text, JSON.stringify(r.payload)])
+    },
+  })
+  const csv = stringify({ header: true, columns: [...CSV_COLUMNS], record_delimiter: 'windows' })
+  rows.on('end', release).on('error', (e) => { release(); csv.destroy(e) }).on('close', release)
+  csv.on('close', () => { if (!rows.destroyed) rows.destroy(); release() })
+  return rows.pipe(toRecord).pipe(csv)
+}
+
+// ---- the time-distance graph ----
+
+export async function sessionGraph(sessionId: number, layout: Layout, routeIds: string[], from: number, to: number): Promise<GraphData> {
+  const byId = new Map(layout.blocks.map(b => [b.id, b]))
+  const unknown = routeIds.filter(id => !byId.has(id))
+  if (unknown.length) throw badFilter('route', `no block ${unknown.map(u => `"${u}"`).join(', ')} on this layout`)
+  if (new Set(routeIds).size !== routeIds.length) throw badFilter('route', 'a block appears twice')
+  const db = useDatabase()
+  // Plain numbers and text from SQL: this can be every description step of a long night.
+  const events = await db.sequelize.query<{ at: string, subject: string, description: string | null, reason: string }>(
+    `SELECT (extract(epoch FROM at) * 1000)::bigint AS at, subject, payload->>'description' AS description, payload->>'reason' AS reason FROM events
+     WHERE session_id = :sessionId AND type = 'description' AND subject IN (:route) ORDER BY id`,
+    { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
+  const alarms = await db.sequelize.query<{ at: string, block: string, signal: string, description: string | null }>(
+    `SELECT payload#>>'{alarm,at}' AS at, payload#>>'{alarm,block}' AS block, payload#>>'{alarm,signal}' AS signal, payload#>>'{alarm,description}' AS description
+     FROM events WHERE session_id = :sessionId AND type = 'alarm' AND coalesce(payload#>>'{alarm,kind}', 'spad') = 'spad' AND payload#>>'{alarm,block}' IN (:route) ORDER BY id`,
+    { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
+  return buildTimeDistance(
+    routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })),
+    events.map(e => ({ at: Number(e.at), block: e.subject, description: e.description, reason: e.reason })),
+    alarms.map(a => ({ at: Number(a.at), block: a.block, signal: a.signal, description: a.description })),
+    from, to)
+}

@@ -1,0 +1,290 @@
+import type { DiagramFacingName, Layout, Point } from '#shared/schemas/layout'
+
+/**
+ * Pure edits of a layout definition for the editor. Each returns nothing and changes `def` in place (the
+ * editor works on its own copy and keeps copies for undo). Ids are made up as B1, B2, ... and can be
+ * changed afterwards.
+ */
+
+/** Snapping grid of the editor, in drawing units. */
+export const GRID = 20
+
+export type ItemKind = 'block' | 'link' | 'turnout' | 'signal' | 'area' | 'label'
+export interface ItemRef { kind: ItemKind, id: string }
+
+/** The editor's tools: `try` runs the signalling engine in the browser. */
+export type EditorTool = 'select' | 'block' | 'link' | 'turnout' | 'signal' | 'label' | 'try'
+
+export const snap = (p: Point, grid = GRID): Point => [Math.round(p[0] / grid) * grid, Math.round(p[1] / grid) * grid]
+export const samePoint = (a: Point, b: Point) => Math.abs(a[0] - b[0]) < 0.5 && Math.abs(a[1] - b[1]) < 0.5
+
+/** The first free id of the form `<prefix><n>`. */
+export function nextId(prefix: string, taken: Iterable<string>): string {
+  const set = new Set(taken)
+  for (let n = 1; ; n++) if (!set.has(`${prefix}${n}`)) return `${prefix}${n}`
+}
+
+export function pathLength(path: Point[]): number {
+  let sum = 0
+  for (let i = 1; i < path.length; i++) sum += Math.hypot(path[i]![0] - path[i - 1]![0], path[i]![1] - path[i - 1]![1])
+  return sum
+}
+
+/** Middle of a polyline, along its length: where a new block's berth goes (a little above the track). */
+export function pathMiddle(path: Point[]): Point {
+  const half = pathLength(path) / 2
+  let run = 0
+  for (let i = 1; i < path.length; i++) {
+    const [a, b] = [path[i - 1]!, path[i]!]
+    const seg = Math.hypot(b[0] - a[0], b[1] - a[1])
+    if (run + seg >= half && seg > 0) {
+      const t = (half - run) / seg
+      return [a[0] + (b[0] - a[0]) * t, a[1] + (b[1] - a[1]) * t]
+    }
+    run += seg
+  }
+  return path[0] ?? [0, 0]
+}
+
+export function segmentDistance(p: Point, a: Point, b: Point): number {
+  const dx = b[0] - a[0]
+  const dy = b[1] - a[1]
+  const len2 = dx * dx + dy * dy
+  const t = len2 === 0 ? 0 : Math.min(1, Math.max(0, ((p[0] - a[0]) * dx + (p[1] - a[1]) * dy) / len2))
+  return Math.hypot(p[0] - (a[0] + t * dx), p[1] - (a[1] + t * dy))
+}
+
+export function distanceToPath(p: Point, path: Point[]): number {
+  if (path.length === 1) return Math.hypot(p[0] - path[0]![0], p[1] - path[0]![1])
+  let best = Infinity
+  for (let i = 1; i < path.length; i++) best = Math.min(best, segmentDistance(p, path[i - 1]!, path[i]!))
+  return best
+}
+
+const allIds = (def: Layout) => [...def.blocks.map(b => b.id), ...def.signals.map(s => s.id), ...def.turnouts.map(t => t.id), ...def.areas.map(a => a.id)]
+
+/**
+ * A new block drawn along `path`, with a detector of its own. When its first point is where another block's
+ * drawing ends, a link runs from that block into it (the direction of travel as drawn); when its last point
+ * is where another block's drawing starts, a link runs from it into that one.
+ */
+export function addBlock(def: Layout, path: Point[], mmPerUnit = 5): string {
+  const id = nextId('B', allIds(def))
+  const detector = nextId('D', def.blocks.flatMap(b => b.detectors))
+  def.blocks.push({ id, name: `Block ${id.slice(1)}`, lengthMm: Math.max(10, Math.round(pathLength(path) * mmPerUnit)), detectors: [detector] })
+  const mid = pathMiddle(path)
+  def.diagram.blocks[id] = { path, label: [mid[0], Math.max(0, mid[1] - 30)] }
+  for (const other of def.blocks) {
+    if (other.id === id) continue
+    const p = def.diagram.blocks[other.id]?.path
+    if (!p?.length) continue
+    if (samePoint(p[p.length - 1]!, path[0]!)) addLink(def, other.id, id)
+    if (samePoint(p[0]!, path[path.length - 1]!)) addLink(def, id, other.id)
+  }
+  return id
+}
+
+export function addLink(def: Layout, from: string, to: string): boolean {
+  if (from === to || def.links.some(l => l.from === from && l.to === to)) return false
+  def.links.push({ from, to })
+  return true
+}
+
+/** Direction of travel at the end of a path, to the nearest of the four drawn directions. */
+export function facingAtEnd(path: Point[]): DiagramFacingName {
+  const a = path[path.length - 2] ?? path[0]!
+  const b = path[path.length - 1]!
+  const dx = b[0] - a[0]
+  const dy = b[1] - a[1]
+  if (Math.abs(dx) >= Math.abs(dy)) return dx >= 0 ? 'right' : 'left'
+  return dy >= 0 ? 'down' : 'up'
+}
+
+/** The block whose drawing passes nearest to `p`, within `radius`. */
+export function nearestBlock(def: Layout, p: Point, radius: number): string | null {
+  let best: string | null = null
+  let bestD = radius
+  for (const b of def.blocks) {
+    const path = def.diagram.blocks[b.id]?.path
+    if (!path) continue
+    const d = distanceToPath(p, path)
+    if (d <= bestD) {
+      best = b.id
+      bestD = d
+    }
+  }
+  return best
+}
+
+/**
+ * A signal at the exit of the block drawn nearest to `p`, reading into the first block linked from it,
+ * drawn beside the track on the left of the direction of travel.
+ */
+export function addSignal(def: Layout, p: Point, radius: number): string | null {
+  const from = nearestBlock(def, p, radius)
+  if (!from) return null
+  const id = nextId('S', allIds(def))
+  const path = def.diagram.blocks[from]!.path
+  const facing = facingAtEnd(path)
+  const protects = def.links.find(l => l.from === from && !def.signals.some(s => s.from === from && s.protects === l.to))?.to
+    ?? def.links.find(l => l.from === from)?.to ?? from
+  def.signals.push({ id, name: `Signal ${id.slice(1)}`, kind: 'three-aspect', from, protects })
+  def.diagram.signals[id] = { at: snap(p), facing }
+  return id
+}
+
+/**
+ * A turnout where the legs part at `p`: in the block whose drawing ends there, with its two onward blocks
+ * (by the links) as the normal and reverse legs when it has them.
+ */
+export function addTurnout(def: Layout, p: Point, radius: number): string | null {
+  const at = snap(p)
+  const ending = def.blocks.find((b) => { const path = def.diagram.blocks[b.id]?.path; return path && samePoint(path[path.length - 1]!, at) })
+  const block = ending?.id ?? nearestBlock(def, p, radius)
+  if (!block) return null
+  const onward = def.links.filter(l => l.from === block).map(l => l.to)
+  const id = nextId('T', allIds(def))
+  def.turnouts.push({ id, block, normal: onward[0] ?? block, reverse: onward[1] ?? onward[0] ?? block })
+  def.diagram.turnouts[id] = { at }
+  return id
+}
+
+export function addLabel(def: Layout, p: Point, text = 'Label'): string {
+  def.diagram.labels.push({ text, at: snap(p) })
+  return String(def.diagram.labels.length - 1)
+}
+
+export function addArea(def: Layout): string {
+  const id = nextId('area', def.areas.map(a => a.id))
+  def.areas.push({ id, name: `Area ${id.slice(4)}`, signals: [], turnouts: [] })
+  return id
+}
+
+/** Removes an item and everything that refers to it (links, signals and turnouts of a block, area entries, drawing). */
+export function deleteItem(def: Layout, item: ItemRef): void {
+  const { id } = item
+  if (item.kind === 'block') {
+    def.blocks = def.blocks.filter(b => b.id !== id)
+    def.links = def.links.filter(l => l.from !== id && l.to !== id)
+    for (const s of def.signals.filter(s => s.from === id || s.protects === id)) deleteItem(def, { kind: 'signal', id: s.id })
+    for (const t of def.turnouts.filter(t => t.block === id || t.normal === id || t.reverse === id)) deleteItem(def, { kind: 'turnout', id: t.id })
+    delete def.diagram.blocks[id]
+  } else if (item.kind === 'link') {
+    def.links = def.links.filter(l => `${l.from}>${l.to}` !== id)
+  } else if (item.kind === 'signal') {
+    def.signals = def.signals.filter(s => s.id !== id)
+    for (const a of def.areas) a.signals = a.signals.filter(s => s !== id)
+    delete def.diagram.signals[id]
+  } else if (item.kind === 'turnout') {
+    def.turnouts = def.turnouts.filter(t => t.id !== id)
+    for (const a of def.areas) a.turnouts = a.turnouts.filter(t => t !== id)
+    delete def.diagram.turnouts[id]
+  } else if (item.kind === 'area') {
+    def.areas = def.areas.filter(a => a.id !== id)
+  } else {
+    def.diagram.labels.splice(Number(id), 1)
+  }
+}
+
+const moved = (p: Point, dx: number, dy: number, w: number, h: number): Point =>
+  [Math.min(w, Math.max(0, p[0] + dx)), Math.min(h, Math.max(0, p[1] + dy))]
+
+/** Moves an item's drawing by (dx, dy), kept inside the drawing area. Blocks move with their berth. */
+export function moveItem(def: Layout, item: ItemRef, dx: number, dy: number): void {
+  const { width: w, height: h } = def.diagram
+  if (item.kind === 'block') {
+    const d = def.diagram.blocks[item.id]
+    if (!d) return
+    d.path = d.path.map(p => moved(p, dx, dy, w, h))
+    if (d.label) d.label = moved(d.label, dx, dy, w, h)
+  } else if (item.kind === 'signal') {
+    const d = def.diagram.signals[item.id]
+    if (d) d.at = moved(d.at, dx, dy, w, h)
+  } else if (item.kind === 'turnout') {
+    const d = def.diagram.turnouts[item.id]
+    if (d) d.at = moved(d.at, dx, dy, w, h)
+  } else if (item.kind === 'label') {
+    const d = def.diagram.labels[Number(item.id)]
+    if (d) d.at = moved(d.at, dx, dy, w, h)
+  }
+}
+
+/** Renames an item's id everywhere it is referred to. False when the new id is taken. */
+export function renameId(def: Layout, item: ItemRef, to: string): boolean {
+  const from = item.id
+  if (from === to) return true
+  if (allIds(def).includes(to)) return false
+  const swap = (x: string) => (x === from ? to : x)
+  const rekey = <T>(rec: Record<string, T>) => {
+    if (!(from in rec)) return
+    rec[to] = rec[from]!
+    delete rec[from]
+  }
+  if (item.kind === 'block') {
+    def.blocks.forEach((b) => { b.id = swap(b.id) })
+    def.links.forEach((l) => { l.from = swap(l.from); l.to = swap(l.to) })
+    def.signals.forEach((s) => {
+      s.from = swap(s.from)
+      s.protects = swap(s.protects)
+      if (s.indicators && from in s.indicators) rekey(s.indicators)
+    })
+    def.turnouts.forEach((t) => {
+      t.block = swap(t.block)
+      t.normal = swap(t.normal)
+      t.reverse = swap(t.reverse)
+    })
+    rekey(def.diagram.blocks)
+  } else if (item.kind === 'signal') {
+    def.signals.forEach((s) => { s.id = swap(s.id) })
+    def.areas.forEach((a) => { a.signals = a.signals.map(swap) })
+    rekey(def.diagram.signals)
+  } else if (item.kind === 'turnout') {
+    def.turnouts.forEach((t) => { t.id = swap(t.id) })
+    def.areas.forEach((a) => { a.turnouts = a.turnouts.map(swap) })
+    rekey(def.diagram.turnouts)
+  } else if (item.kind === 'area') {
+    def.areas.forEach((a) => { a.id = swap(a.id) })
+  }
+  return true
+}
+
+/**
+ * The item a validation error is about, from its path (`signals[3].protects`, `diagram.blocks.B2.path[1]`,
+ * `blocks[0]`), so the editor can show the error at that item and take you to it.
+ */
+export function itemOfError(def: Layout, path: string): ItemRef | null {
+  let m = /^(blocks|signals|turnouts|areas)\[(\d+)\]/.exec(path)
+  if (m) {
+    const list = { blocks: def.blocks, signals: def.signals, turnouts: def.turnouts, areas: def.areas }[m[1] as 'blocks']
+    const it = list[Number(m[2])]
+    const kind = ({ blocks: 'block', signals: 'signal', turnouts: 'turnout', areas: 'area' } as const)[m[1] as 'blocks']
+    return it ? { kind, id: it.id } : null
+  }
+  m = /^links\[(\d+)\]/.exec(path)
+  if (m) {
+    const l = def.links[Number(m[1])]
+    return l ? { kind: 'link', id: `${l.from}>${l.to}` } : null
+  }
+  m = /^diagram\.(blocks|signals|turnouts)\.([^.[]+)/.exec(path)
+  if (m) return { kind: ({ blocks: 'block', signals: 'signal', turnouts: 'turnout' } as const)[m[1] as 'blocks'], id: m[2]! }
+  m = /^diagram\.labels\[(\d+)\]/.exec(path)
+  if (m) return { kind: 'label', id: m[1]! }
+  return null
+}
+
+/** Where an item is drawn (for an error marker, and to bring it into view). */
+export function itemPoint(def: Layout, item: ItemRef): Point | null {
+  const d = def.diagram
+  if (item.kind === 'block') { const b = d.blocks[item.id]; return b ? (b.label ?? pathMiddle(b.path)) : null }
+  if (item.kind === 'signal') return d.signals[item.id]?.at ?? null
+  if (item.kind === 'turnout') return d.turnouts[item.id]?.at ?? null
+  if (item.kind === 'label') return d.labels[Number(item.id)]?.at ?? null
+  if (item.kind === 'link') {
+    const [from, to] = item.id.split('>')
+    const a = d.blocks[from!]?.path
+    const b = d.blocks[to!]?.path
+    if (a && b) return [(a[a.length - 1]![0] + b[0]![0]) / 2, (a[a.length - 1]![1] + b[0]![1]) / 2]
+    return a?.[a.length - 1] ?? null
+  }
+  return null
+}

@@ -1,0 +1,61 @@
+import { z } from './zod'
+
+/** Fast-clock ratio: model minutes per real minute (4 means 4:1). */
+export const FAST_CLOCK_MAX = 60
+
+const ClockTime = z.string().trim().regex(/^([01]?\d|2[0-3]):[0-5]\d$/, 'fastClockStart is a time of day like 06:30')
+
+export const StartSessionBody = z.object({
+  layout: z.string({ error: 'layout is the slug of a layout' }).trim().min(1, 'layout is required').max(64),
+  name: z.string({ error: 'name is required' }).trim().min(1, 'name is required').max(120, 'name is at most 120 characters'),
+  fastClockRatio: z.coerce.number({ error: 'fastClockRatio is a number' })
+    .positive('fastClockRatio is more than 0')
+    .max(FAST_CLOCK_MAX, `fastClockRatio is at most ${FAST_CLOCK_MAX}`),
+  fastClockStart: z.union([ClockTime, z.literal('').transform(() => null), z.null()]).optional(),
+  notes: z.string().trim().max(2000, 'notes are at most 2000 characters').optional(),
+})
+export type StartSessionBody = z.infer<typeof StartSessionBody>
+
+const When = (name: string) => z.union([
+  z.coerce.number().int().nonnegative(),
+  z.string().trim().refine(v => !Number.isNaN(Date.parse(v)), `${name} is a date or time (ISO 8601) or epoch milliseconds`).transform(v => Date.parse(v)),
+]).optional()
+
+export const ListSessionsQuery = z.object({
+  layout: z.string().trim().min(1).max(64).optional(),
+  from: When('from'),
+  to: When('to'),
+  limit: z.coerce.number({ error: 'limit is a number' }).int().min(1, 'limit is at least 1').max(100, 'limit is at most 100').default(20),
+  page: z.coerce.number({ error: 'page is a number' }).int().min(1, 'page is at least 1').max(10_000).default(1),
+})
+export type ListSessionsQuery = z.infer<typeof ListSessionsQuery>
+
+const Id = z.string().trim().min(1).max(64)
+
+export const SessionEventsQuery = z.object({
+  kind: z.string().trim().min(1).max(48).optional(),
+  block: Id.optional(),
+  signal: Id.optional(),
+  description: z.string().trim().min(1).max(16).optional(),
+  user: z.coerce.number({ error: 'user is a person id' }).int().positive().optional(),
+  from: When('from'),
+  to: When('to'),
+  order: z.enum(['asc', 'desc'], { error: 'order is asc or desc' }).default('asc'),
+  limit: z.coerce.number({ error: 'limit is a number' }).int().min(1, 'limit is at least 1').max(500, 'limit is at most 500').default(50),
+  after: z.string().trim().max(200).optional(),
+})
+export type SessionEventsQuery = z.infer<typeof SessionEventsQuery>
+
+export const ReplayQuery = z.object({
+  at: z.coerce.number({ error: 'at is a time in epoch milliseconds' }).int('at is whole milliseconds').nonnegative(),
+})
+
+export const GraphQuery = z.object({
+  route: z.string({ error: 'route is a comma-separated list of block ids' }).trim().min(1, 'route lists at least one block').max(2000)
+    .transform(v => v.split(',').map(s => s.trim()).filter(Boolean))
+    .refine(v => v.length > 0 && v.length <= 200, 'route lists 1 to 200 blocks'),
+})
+
+export const DeleteSessionBody = z.object({
+  confirm: z.string({ error: 'confirm is the name of the session' }).trim().min(1, 'confirm is the name of the session'),
+})

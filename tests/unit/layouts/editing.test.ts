@@ -1,0 +1,82 @@
+import { describe, expect, it } from 'vitest'
+import { LayoutDefinition, type Layout } from '#shared/schemas/layout'
+import { validateLayout } from '#shared/signalling'
+import { addBlock, addSignal, addTurnout, deleteItem, itemOfError, moveItem, renameId, snap } from '#shared/layouts/editing'
+
+const empty = (): Layout => LayoutDefinition.parse({ schema: 1, name: 'Sallow Light', scale: { name: 'N', ratio: 148 }, blocks: [{ id: 'X', name: 'x', lengthMm: 1, detectors: [] }], links: [] })
+
+/** A line B1 -> B2 -> B3 with a siding B4 leaving the end of B2, drawn as the editor's tests draw it. */
+function junction(): Layout {
+  const d = empty()
+  deleteItem(d, { kind: 'block', id: 'X' })
+  addBlock(d, [[200, 400], [400, 400]])
+  addBlock(d, [[400, 400], [600, 400]])
+  addBlock(d, [[600, 400], [800, 400]])
+  addBlock(d, [[600, 400], [680, 480], [840, 480]])
+  return d
+}
+
+describe('editing a layout', () => {
+  it('snaps to the 20-unit grid', () => {
+    expect(snap([29, 11])).toEqual([20, 20])
+    expect(snap([-9, 31])).toEqual([-0, 40])
+  })
+
+  it('joins a block drawn from where another ends with a link in the direction drawn', () => {
+    const d = junction()
+    expect(d.blocks.map(b => b.id)).toEqual(['B1', 'B2', 'B3', 'B4'])
+    expect(d.links).toEqual([{ from: 'B1', to: 'B2' }, { from: 'B2', to: 'B3' }, { from: 'B2', to: 'B4' }])
+    expect(d.blocks[0]!.detectors).toEqual(['D1'])
+  })
+
+  it('places a turnout where the legs part, with the onward blocks as its legs, and the layout validates', () => {
+    const d = junction()
+    expect(validateLayout(d).ok).toBe(false) // B2 forks with no turnout
+    expect(addTurnout(d, [602, 397], 30)).toBe('T1')
+    expect(d.turnouts).toEqual([{ id: 'T1', block: 'B2', normal: 'B3', reverse: 'B4' }])
+    expect(addSignal(d, [380, 420], 30)).toBe('S1')
+    expect(d.signals[0]).toMatchObject({ from: 'B1', protects: 'B2', kind: 'three-aspect' })
+    expect(d.diagram.signals.S1).toEqual({ at: [380, 420], facing: 'right' })
+    expect(validateLayout(d)).toMatchObject({ ok: true })
+  })
+
+  it('deletes a block with everything that refers to it', () => {
+    const d = junction()
+    addTurnout(d, [600, 400], 30)
+    addSignal(d, [380, 420], 30)
+    d.areas.push({ id: 'sallow', name: 'Sallow', signals: ['S1'], turnouts: ['T1'] })
+    deleteItem(d, { kind: 'block', id: 'B2' })
+    expect(d.links).toEqual([])
+    expect(d.signals).toEqual([])
+    expect(d.turnouts).toEqual([])
+    expect(d.areas[0]).toMatchObject({ signals: [], turnouts: [] })
+    expect(d.diagram.blocks.B2).toBeUndefined()
+  })
+
+  it('renames an id everywhere, and refuses one already used', () => {
+    const d = junction()
+    addTurnout(d, [600, 400], 30)
+    expect(renameId(d, { kind: 'block', id: 'B2' }, 'SALLOW')).toBe(true)
+    expect(d.links).toContainEqual({ from: 'SALLOW', to: 'B3' })
+    expect(d.turnouts[0]!.block).toBe('SALLOW')
+    expect(d.diagram.blocks.SALLOW).toBeDefined()
+    expect(renameId(d, { kind: 'block', id: 'B3' }, 'B4')).toBe(false)
+  })
+
+  it('moves a block with its berth, kept inside the drawing', () => {
+    const d = junction()
+    moveItem(d, { kind: 'block', id: 'B1' }, -300, 20)
+    expect(d.diagram.blocks.B1!.path).toEqual([[0, 420], [100, 420]])
+  })
+
+  it('finds the item an error is about from its path', () => {
+    const d = junction()
+    const errors = validateLayout(d)
+    expect(errors.ok).toBe(false)
+    if (errors.ok) return
+    expect(errors.errors.map(e => itemOfError(d, e.path))).toContainEqual({ kind: 'block', id: 'B2' })
+    expect(itemOfError(d, 'diagram.signals.S9.at')).toEqual({ kind: 'signal', id: 'S9' })
+    expect(itemOfError(d, 'links[1].to')).toEqual({ kind: 'link', id: 'B2>B3' })
+    expect(itemOfError(d, 'name')).toBeNull()
+  })
+})
