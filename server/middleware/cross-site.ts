@@ -6,8 +6,10 @@ import type { H3Event } from 'h3'
 //    A request with neither header is not from a browser page (curl, scripts, devices) and is let through,
 //    as Go's net/http CrossOriginProtection does.
 // 2. The API takes JSON bodies only. A form post (urlencoded, multipart, text/plain) is one a foreign page
-//    can send without a CORS preflight; JSON is not.
+//    can send without a CORS preflight; JSON is not. The file uploads below take multipart/form-data, and
+//    rely on rule 1 alone (a browser always sends Origin or Sec-Fetch-Site with a cross-site form post).
 const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS'])
+const FILE_UPLOADS = [/^\/api\/layouts\/import(?:\?|$)/, /^\/api\/uploads(?:\?|$)/]
 
 function sameSite(event: H3Event): boolean {
   const origin = getRequestHeader(event, 'origin')
@@ -31,5 +33,6 @@ export default defineEventHandler((event) => {
   const type = getRequestHeader(event, 'content-type')
   const json = type !== undefined && /^application\/(?:[\w.+-]+\+)?json\s*(?:;|$)/i.test(type)
   if (json || (type === undefined && !hasBody(event))) return
+  if (type && /^multipart\/form-data\s*;/i.test(type) && FILE_UPLOADS.some(route => route.test(event.path))) return
   throw createError({ statusCode: 415, statusMessage: 'Unsupported Media Type', message: 'The request body must be JSON: send it with Content-Type: application/json.' })
 })

@@ -98,7 +98,6 @@ export async function acceptInvitation(event: H3Event, body: AcceptInvitationBod
     await row!.update({ acceptedAt: new Date(), acceptedUserId: created.id }, { transaction })
     return created
   })
-  const sessionUser: SessionUser = { id: user.id, email: user.email, name: user.name, role: user.role }
-  await replaceUserSession(event, { user: sessionUser, loggedInAt: Date.now() })
-  return sessionUser
+  // the same session as a password sign-in: a fresh id, the account's session version, the cookie for this address
+  return openSession(event, await user.reload())
 }

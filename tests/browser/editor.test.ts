@@ -101,7 +101,9 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
     await page.getByTestId('tool-try').tap()
     const aspect = (id: string) => page.getByTestId(`signal-${id}`).getAttribute('data-aspect')
     expect(await aspect('S1')).toBe('danger')
-    await tapAt(page, 600, 400)
+    // a turnout is tapped on its tag (N / R / ?), drawn clear of the point where the legs part
+    const tag = (await page.getByTestId('turnout-T1').getByTestId('turnout-tag').boundingBox())!
+    await page.touchscreen.tap(tag.x + tag.width / 2, tag.y + tag.height / 2)
     await expect.poll(() => page.getByTestId('turnout-T1').getAttribute('data-position'), POLL).toBe('normal')
     await expect.poll(() => aspect('S1'), POLL).toBe('proceed')
     expect(await aspect('S2')).toBe('caution')

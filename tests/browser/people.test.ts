@@ -36,7 +36,7 @@ describe('in a real browser (Debian chromium)', () => {
     await form.getByLabel('Role').selectOption('viewer')
     await form.getByLabel(/First password/).fill('underhill-pass')
     await form.getByRole('button', { name: 'Add person' }).click()
-    await expect.poll(() => page.getByRole('status').textContent()).toContain(`can now sign in as ${email}`)
+    await expect.poll(() => form.getByRole('status').textContent()).toContain(`can now sign in as ${email}`)
     await expect.poll(() => page.getByTestId(`person-${email}`).count()).toBe(1)
     await screenshot(page, 'people-1280x800')
   })

@@ -121,13 +121,24 @@ describe('role matrix', () => {
   it.each(STATE_CHANGING.filter(r => r.body !== undefined || r.method === 'POST'))(
     'refuses a form body on $method $path even from this site (415, JSON only)', async ({ method, path }) => {
       const admin = await signedIn('admin')
+      const upload = path === '/api/layouts/import' // a file upload: multipart is its body, refused cross-site only
       for (const type of ['application/x-www-form-urlencoded', 'multipart/form-data; boundary=x', 'text/plain']) {
+        if (upload && type.startsWith('multipart/')) continue
         const reply = await admin.request(method, path, 'everywhere=true', { 'content-type': type, 'sec-fetch-site': 'same-origin' })
         expect(reply.status, `${type}: ${JSON.stringify(reply.body)}`).toBe(415)
         expect(reply.body.message).toBe('The request body must be JSON: send it with Content-Type: application/json.')
       }
       expect((await admin.get('/api/auth/me')).status).toBe(200)
     })
+
+  it.each(FOREIGN)('refuses a multipart file upload from $what, and takes one from this site', async ({ origin, site }) => {
+    const admin = await signedIn('admin')
+    const form = '--x\r\nContent-Disposition: form-data; name="file"; filename="a.json"\r\nContent-Type: application/json\r\n\r\n{}\r\n--x--\r\n'
+    const foreign = await admin.request('POST', '/api/layouts/import', form, { 'content-type': 'multipart/form-data; boundary=x', origin, 'sec-fetch-site': site })
+    expect(foreign.status, JSON.stringify(foreign.body)).toBe(403)
+    const own = await admin.request('POST', '/api/layouts/import', form, { 'content-type': 'multipart/form-data; boundary=x', 'origin': BASE_URL, 'sec-fetch-site': 'same-origin' })
+    expect(own.status, JSON.stringify(own.body)).toBe(400) // read and refused for its content ({} is no layout)
+  })
 
   it('refuses JSON from a foreign Origin too, and takes it from this site (as the browser sends it)', async () => {
     const admin = await signedIn('admin')

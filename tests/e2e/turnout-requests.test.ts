@@ -35,9 +35,10 @@ describe('turnout requests', () => {
     rhea = await LiveClient.as('signaller2')
     admin = await LiveClient.as('admin')
     const before = await rhea.snapshot()
-    if (before.areas.branch) await admin.command({ action: 'force-release', area: 'branch' })
+    // T2 and SU2 lie on the Main line area, SB3 on the Branch: Rhea holds both
+    for (const area of ['main', 'branch']) if (before.areas[area]) await admin.command({ action: 'force-release', area })
     restore = { SU2: before.state.overrides.SU2 ?? 'auto', SB3: before.state.overrides.SB3 ?? 'auto', T2: before.state.turnouts.T2 ?? 'unknown' }
-    expect(await rhea.command({ action: 'take-area', area: 'branch' })).toMatchObject({ ok: true })
+    for (const area of ['main', 'branch']) expect(await rhea.command({ action: 'take-area', area })).toMatchObject({ ok: true })
     // SU2 and SB3 read into UM3, where T2 lies: held, so T2 can be set normal without a lock alarm
     for (const signal of ['SU2', 'SB3']) {
       const s = await rhea.snapshot()
@@ -62,7 +63,7 @@ describe('turnout requests', () => {
       await rhea.command({ action: 'set-override', signal, mode: restore[signal], revision: s.state.signalRevisions[signal] })
       s = await rhea.snapshot()
     }
-    await rhea.command({ action: 'release-area', area: 'branch' })
+    for (const area of ['main', 'branch']) await rhea.command({ action: 'release-area', area })
     for (const c of [rhea, admin]) c?.close()
     await device?.endAsync()
     await watcher?.endAsync()
