@@ -43,8 +43,7 @@ try {
   console.log(`counters for ${blocks} blocks since their last cleaning, ${RUNS} runs: p50 ${p(0.5)} ms, p95 ${p(0.95)} ms, max ${p(1)} ms`)
   const plan = await db.sequelize.query<{ 'QUERY PLAN': string }>(`EXPLAIN SELECT count(*) FROM events WHERE layout_id = ${layout.id} AND type = 'block' AND at > now() - interval '45 days'`, { type: QueryTypes.SELECT })
   console.log('scan of one block-move window:', plan.map(r => r['QUERY PLAN']).filter(l => /Scan/.test(l)).map(l => l.trim()).join(' | '))
-}
-finally {
+} finally {
   await db.sequelize.close()
   await pg.destroy()
 }
