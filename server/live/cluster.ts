@@ -5,10 +5,10 @@ import { layoutInputFilters, parseServerTopic, SERVER_FILTERS, serverTopics } fr
 import type { CommandOutcome, LayoutRuntime } from './runtime'
 
 /** Requests a process sends a layout's owner. */
-export type OwnerRequest =
-  | { kind: 'snapshot' }
-  | { kind: 'command', user: LiveUser, command: LiveCommand, madeAt?: number }
-  | { kind: 'operators', instance: string, operators: { user: LiveUser, count: number }[] }
+export type OwnerRequest
+  = | { kind: 'snapshot' }
+    | { kind: 'command', user: LiveUser, command: LiveCommand, madeAt?: number }
+    | { kind: 'operators', instance: string, operators: { user: LiveUser, count: number }[] }
 
 /** What the cluster link needs from the live service of its process. */
 export interface ClusterHost {

@@ -96,10 +96,10 @@ export const SERVER_FILTERS = [`${SERVER_TOPIC_ROOT}/layout/+/panels`, `${SERVER
 /** Input topics of one layout (the owner's own subscription). */
 export const layoutInputFilters = (slug: string) => [relative.detector('+'), relative.turnout('+'), relative.deviceStatus('+')].map(t => layoutTopic(slug, t))
 
-export type ServerTopic =
-  | { kind: 'panels' | 'requests', slug: string }
-  | { kind: 'layouts' }
-  | { kind: 'responses' | 'status', instance: string }
+export type ServerTopic
+  = | { kind: 'panels' | 'requests', slug: string }
+    | { kind: 'layouts' }
+    | { kind: 'responses' | 'status', instance: string }
 
 export function parseServerTopic(topic: string): ServerTopic | null {
   if (!topic.startsWith(`${SERVER_TOPIC_ROOT}/`)) return null
