@@ -1,8 +1,10 @@
 import type { Layout } from '#shared/schemas/layout'
 import { validateLayout, type ValidationError } from '#shared/signalling'
-import { itemOfError, type ItemRef } from '#shared/layouts/editing'
+import { itemOfError, shareUnchanged, type ItemRef } from '#shared/layouts/editing'
 
 const HISTORY = 100
+/** The draft is written to localStorage this long after the last change (and at once when the page is left). */
+const DRAFT_DELAY_MS = 400
 
 export interface StoredDraft { baseVersion: number, definition: Layout, keptAt: number }
 
@@ -13,25 +15,29 @@ export const draftKey = (slug: string) => `blockbell:layout-draft:${slug}`
  * it for undo, validates the result (validateLayout, the same check the server makes) and keeps the draft in
  * this browser's localStorage, so a tablet that sleeps or a reload loses nothing.
  * A drag changes the drawing many times a second: `begin()` once, `preview(fn)` as it moves, `commit()` at the end.
+ *
+ * The working copy is plain data in a shallowRef, never changed in place: each change makes a new layout that
+ * shares every part it did not touch with the one before (shareUnchanged). So nothing pays for Vue's deep
+ * tracking of 500 blocks, the drawing redraws only the items whose data changed, and the undo list holds the
+ * old layouts themselves.
  */
 export function useLayoutEditor(slug: string, initial: Layout, baseVersion: Ref<number>) {
-  const def = ref<Layout>(structuredClone(initial)) as Ref<Layout>
+  const def = shallowRef<Layout>(structuredClone(toRaw(initial)))
+  /** The working copy as of the last finished change (not the steps of a drag): what is validated and kept. */
+  const settledDef = shallowRef<Layout>(def.value)
   const undoStack = shallowRef<Layout[]>([])
   const redoStack = shallowRef<Layout[]>([])
   const revision = ref(0)
   const savedRevision = ref(0)
   const selected = ref<ItemRef | null>(null)
 
-  const validation = computed(() => {
-    void revision.value
-    return validateLayout(toRaw(def.value))
-  })
+  const validation = computed(() => validateLayout(settledDef.value))
   const errors = computed<ValidationError[]>(() => (validation.value.ok ? [] : validation.value.errors))
   /** Errors grouped by the item they are about (key `kind:id`); errors about the layout as a whole under ''. */
   const errorsByItem = computed(() => {
     const out = new Map<string, ValidationError[]>()
     for (const e of errors.value) {
-      const item = itemOfError(def.value, e.path)
+      const item = itemOfError(settledDef.value, e.path)
       const key = item ? `${item.kind}:${item.id}` : ''
       out.set(key, [...(out.get(key) ?? []), e])
     }
@@ -41,43 +47,76 @@ export function useLayoutEditor(slug: string, initial: Layout, baseVersion: Ref<
   const canUndo = computed(() => undoStack.value.length > 0)
   const canRedo = computed(() => redoStack.value.length > 0)
 
-  function keepDraft() {
-    if (!import.meta.client) return
+  let draftTimer: ReturnType<typeof setTimeout> | null = null
+  function writeDraft() {
+    if (draftTimer) clearTimeout(draftTimer)
+    draftTimer = null
     try {
-      if (dirty.value) localStorage.setItem(draftKey(slug), JSON.stringify({ baseVersion: baseVersion.value, definition: toRaw(def.value), keptAt: Date.now() } satisfies StoredDraft))
+      if (dirty.value) localStorage.setItem(draftKey(slug), JSON.stringify({ baseVersion: baseVersion.value, definition: settledDef.value, keptAt: Date.now() } satisfies StoredDraft))
       else localStorage.removeItem(draftKey(slug))
     } catch { /* storage full or blocked: the editor still works, only without the safety copy */ }
   }
+  // writing 500 blocks as JSON takes a while on a tablet: once after a burst of changes, not at each one
+  function keepDraft() {
+    if (!import.meta.client) return
+    if (draftTimer) clearTimeout(draftTimer)
+    draftTimer = setTimeout(writeDraft, DRAFT_DELAY_MS)
+  }
+  const flushDraft = () => { if (draftTimer) writeDraft() }
+  const onHidden = () => { if (document.visibilityState === 'hidden') flushDraft() }
+  if (import.meta.client) {
+    onMounted(() => {
+      window.addEventListener('pagehide', flushDraft)
+      document.addEventListener('visibilitychange', onHidden)
+    })
+    onBeforeUnmount(() => {
+      flushDraft()
+      window.removeEventListener('pagehide', flushDraft)
+      document.removeEventListener('visibilitychange', onHidden)
+    })
+  }
 
-  function checkpoint() {
-    undoStack.value = [...undoStack.value.slice(-HISTORY + 1), structuredClone(toRaw(def.value))]
+  function remember(layout: Layout) {
+    undoStack.value = [...undoStack.value.slice(-HISTORY + 1), layout]
     redoStack.value = []
   }
 
+  function show(next: Layout) {
+    def.value = shareUnchanged(def.value, next)
+  }
+
   function settled() {
+    settledDef.value = def.value
     revision.value++
     keepDraft()
   }
 
+  /** `fn` edits a copy of the working copy in place; the result becomes the working copy. */
   function change(fn: (d: Layout) => void) {
-    checkpoint()
-    fn(def.value)
+    const before = def.value
+    const next = structuredClone(before)
+    fn(next)
+    show(next)
+    if (def.value === before) return
+    remember(before)
     settled()
   }
 
   let dragStart: Layout | null = null
-  function begin() { dragStart = structuredClone(toRaw(def.value)) }
-  /** One step of a drag: `fn` gets the drawing as it was when the drag began, to move from there. */
-  function preview(fn: (d: Layout, start: Layout) => void) {
-    if (dragStart) fn(def.value, dragStart)
+  function begin() { dragStart = def.value }
+  /** One step of a drag: `fn` gets the drawing as it was when the drag began and returns it as it is now. */
+  function preview(fn: (start: Layout) => Layout) {
+    if (dragStart) show(fn(dragStart))
   }
   function commit() {
     if (!dragStart) return
     const start = dragStart
     dragStart = null
-    if (JSON.stringify(start) === JSON.stringify(toRaw(def.value))) return
-    undoStack.value = [...undoStack.value.slice(-HISTORY + 1), start]
-    redoStack.value = []
+    if (shareUnchanged(start, def.value) === start) {
+      def.value = start
+      return
+    }
+    remember(start)
     settled()
   }
 
@@ -85,7 +124,7 @@ export function useLayoutEditor(slug: string, initial: Layout, baseVersion: Ref<
     const prev = undoStack.value.at(-1)
     if (!prev) return
     undoStack.value = undoStack.value.slice(0, -1)
-    redoStack.value = [...redoStack.value, structuredClone(toRaw(def.value))]
+    redoStack.value = [...redoStack.value, def.value]
     def.value = prev
     settled()
   }
@@ -94,7 +133,7 @@ export function useLayoutEditor(slug: string, initial: Layout, baseVersion: Ref<
     const next = redoStack.value.at(-1)
     if (!next) return
     redoStack.value = redoStack.value.slice(0, -1)
-    undoStack.value = [...undoStack.value, structuredClone(toRaw(def.value))]
+    undoStack.value = [...undoStack.value, def.value]
     def.value = next
     settled()
   }
@@ -103,19 +142,20 @@ export function useLayoutEditor(slug: string, initial: Layout, baseVersion: Ref<
   function markSaved(version: number, definition?: Layout) {
     baseVersion.value = version
     if (definition) {
-      def.value = structuredClone(definition)
+      def.value = structuredClone(toRaw(definition))
+      settledDef.value = def.value
       undoStack.value = []
       redoStack.value = []
       revision.value++
     }
     savedRevision.value = revision.value
-    keepDraft()
+    if (import.meta.client) writeDraft()
   }
 
   /** Takes up a draft kept in this browser (unsaved changes from before a reload). */
   function restoreDraft(draft: StoredDraft) {
-    checkpoint()
-    def.value = structuredClone(draft.definition)
+    remember(def.value)
+    show(structuredClone(toRaw(draft.definition)))
     settled()
   }
 

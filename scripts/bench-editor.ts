@@ -1,6 +1,6 @@
 // Editor figures on the generated 500-block layout (scripts/lib/bench-layout.ts), in headless chromium with
 // the CPU slowed 4x (CDP Emulation.setCPUThrottlingRate) as a stand-in for a tablet:
-//   1. time to open /layouts/bench500/edit until every block is drawn (median and worst of BENCH_EDITOR_OPENS);
+//   1. time to open /layouts/bench500/edit until every block, berth and signal is drawn (median and worst of BENCH_EDITOR_OPENS);
 //   2. a drag of one block: for each pointer move, the time until the block's track is redrawn (DOM updated)
 //      and until the frame after it starts, against one 60 Hz frame (16.7 ms), p50 and p95.
 // Needs a build in .output (`nuxt build`); starts its own PostgreSQL and server. `npm run bench:editor`.
@@ -56,16 +56,19 @@ try {
 
   const opens: number[] = []
   const last = definition.blocks.at(-1)!.id
+  const lastSignal = definition.signals.at(-1)!.id
   for (let i = 0; i < OPENS; i++) {
     await page.goto('/layouts')
     const t0 = Date.now()
     await page.goto(`/layouts/${SLUG}/edit`)
     await page.locator(`[data-test="block-${last}"]`).waitFor({ state: 'attached', timeout: 60_000 })
+    await page.locator(`[data-test="berth-${last}"]`).waitFor({ state: 'attached', timeout: 60_000 })
+    await page.locator(`[data-test="signal-${lastSignal}"]`).waitFor({ state: 'attached', timeout: 60_000 })
     await page.locator('[data-test="editor-errors"]').waitFor()
     opens.push(Date.now() - t0)
   }
   opens.sort((a, b) => a - b)
-  console.log(`1. open the editor (navigation to every block drawn), ${OPENS} times: median ${ms(percentile(opens, 50))}, worst ${ms(opens.at(-1)!)}`)
+  console.log(`1. open the editor (navigation to every block, berth and signal drawn), ${OPENS} times: median ${ms(percentile(opens, 50))}, worst ${ms(opens.at(-1)!)}`)
 
   // select the first block, then drag it with the mouse (real input events through CDP)
   const target = definition.blocks[0]!.id
@@ -77,9 +80,12 @@ try {
     const r = svg.getBoundingClientRect()
     return { x: r.left + Number(m[1]) + px * Number(m[3]), y: r.top + Number(m[2]) + py * Number(m[3]), scale: Number(m[3]) }
   }, [x, y] as [number, number])
-  const start = await toScreen(mid[0], mid[1])
-  await page.mouse.click(start.x, start.y)
+  const first = await toScreen(mid[0], mid[1])
+  await page.mouse.click(first.x, first.y)
   await page.locator('[data-test="selection"]').first().waitFor({ state: 'attached' })
+  // where the block is now: the press that starts the drag must land on it
+  const start = await toScreen(mid[0], mid[1])
+  if (Math.hypot(start.x - first.x, start.y - first.y) > 1) console.log(`   (the drawing moved ${Math.round(start.x - first.x)}, ${Math.round(start.y - first.y)} px when the block was selected)`)
   await page.evaluate((id) => {
     const w = window as unknown as { benchMoves: number[], benchDom: number[], benchFrame: number[] }
     w.benchMoves = []

@@ -288,3 +288,36 @@ export function itemPoint(def: Layout, item: ItemRef): Point | null {
   }
   return null
 }
+
+/**
+ * `next` with every part that is deep-equal to the same part of `prev` replaced by prev's own object (plain
+ * JSON-like data). The editor treats a layout as unchangeable and makes a new one for each edit: what an edit
+ * did not touch keeps its identity, so the drawing redraws only what changed and undo keeps old versions as
+ * they are, without copies.
+ */
+export function shareUnchanged<T>(prev: T | undefined, next: T): T {
+  if (Object.is(prev, next)) return next
+  if (typeof prev !== 'object' || typeof next !== 'object' || prev === null || next === null) return next
+  if (Array.isArray(prev) !== Array.isArray(next)) return next
+  if (Array.isArray(next)) {
+    const before = prev as unknown[]
+    let same = before.length === next.length
+    const out = next.map((value, i) => {
+      const kept = shareUnchanged(before[i], value)
+      if (kept !== before[i]) same = false
+      return kept
+    })
+    return (same ? prev : out) as T
+  }
+  const before = prev as Record<string, unknown>
+  const after = next as Record<string, unknown>
+  const keys = Object.keys(after)
+  let same = keys.length === Object.keys(before).length
+  const out: Record<string, unknown> = {}
+  for (const key of keys) {
+    const kept = shareUnchanged(before[key], after[key])
+    out[key] = kept
+    if (kept !== before[key] || !(key in before)) same = false
+  }
+  return (same ? prev : out) as T
+}

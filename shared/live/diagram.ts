@@ -214,12 +214,28 @@ export function signalLabelDirections(def: Layout, reach = 40, clearance = 16): 
   for (const b of Object.values(def.diagram.blocks)) {
     for (let i = 1; i < b.path.length; i++) segments.push([b.path[i - 1]!, b.path[i]!])
   }
-  const near = (p: Point, r: number) => segments.filter(([a, b]) =>
-    p[0] >= Math.min(a[0], b[0]) - r && p[0] <= Math.max(a[0], b[0]) + r && p[1] >= Math.min(a[1], b[1]) - r && p[1] <= Math.max(a[1], b[1]) + r)
+  const r = reach * 2
+  // each segment is filed under the grid cells its box (widened by r) covers, so a signal looks only at the
+  // segments of its own cell instead of every segment of the layout
+  const cells = new Map<string, number[]>()
+  const cellOf = (v: number) => Math.floor(v / Math.max(r, 1))
+  segments.forEach(([a, b], i) => {
+    for (let cx = cellOf(Math.min(a[0], b[0]) - r); cx <= cellOf(Math.max(a[0], b[0]) + r); cx++) {
+      for (let cy = cellOf(Math.min(a[1], b[1]) - r); cy <= cellOf(Math.max(a[1], b[1]) + r); cy++) {
+        const key = `${cx},${cy}`
+        const list = cells.get(key)
+        if (list) list.push(i)
+        else cells.set(key, [i])
+      }
+    }
+  })
+  const near = (p: Point): [Point, Point][] => (cells.get(`${cellOf(p[0])},${cellOf(p[1])}`) ?? [])
+    .map(i => segments[i]!)
+    .filter(([a, b]) => p[0] >= Math.min(a[0], b[0]) - r && p[0] <= Math.max(a[0], b[0]) + r && p[1] >= Math.min(a[1], b[1]) - r && p[1] <= Math.max(a[1], b[1]) + r)
   const gap = (p: Point, list: [Point, Point][]) => list.reduce((m, [a, b]) => Math.min(m, segmentDistance(p, a, b)), Infinity)
   const out: Record<string, Point> = {}
   for (const [id, s] of Object.entries(def.diagram.signals)) {
-    const local = near(s.at, reach * 2)
+    const local = near(s.at)
     let away: Point = [0, -1]
     let best = Infinity
     for (const [a, b] of local) {

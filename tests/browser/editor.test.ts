@@ -13,14 +13,19 @@ const POLL = { interval: 50, timeout: 5000 }
 
 /** Taps the drawing at a point given in drawing units (through the zoom the canvas shows now). */
 async function tapAt(page: Page, x: number, y: number) {
-  const at = await page.evaluate(([px, py]) => {
+  const at = await screenAt(page, x, y)
+  await page.touchscreen.tap(at.x, at.y)
+}
+
+/** Where a point given in drawing units is on the screen now. */
+function screenAt(page: Page, x: number, y: number) {
+  return page.evaluate(([px, py]) => {
     const svg = document.querySelector('[data-test="editor-canvas"] svg')!
     const g = svg.querySelector('g[transform]')!
     const m = /translate\(([-\d.e]+) ([-\d.e]+)\) scale\(([-\d.e]+)\)/.exec(g.getAttribute('transform')!)!
     const r = svg.getBoundingClientRect()
-    return { x: r.left + Number(m[1]) + px * Number(m[3]), y: r.top + Number(m[2]) + py * Number(m[3]) }
+    return { x: r.left + Number(m[1]) + px * Number(m[3]), y: r.top + Number(m[2]) + py * Number(m[3]), scale: Number(m[3]) }
   }, [x, y] as [number, number])
-  await page.touchscreen.tap(at.x, at.y)
 }
 
 async function drawBlock(page: Page, points: [number, number][]) {
@@ -158,5 +163,60 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
     expect(validateLayout(copy)).toEqual(validateLayout(original))
     expect(validateLayout(copy).ok).toBe(true)
     expect(problems).toEqual([])
+  })
+})
+
+describe('layout editor with a mouse (Debian chromium)', () => {
+  let browser: BrowserSession
+  const made: number[] = []
+  beforeAll(async () => {
+    browser = await openBrowser({ width: 1024, height: 768 })
+  })
+  afterAll(async () => {
+    await browser?.close()
+    const admin = await signedIn('admin')
+    for (const id of made) await admin.patch(`/api/layouts/${id}`, { archived: true })
+  })
+
+  it('moves a block dragged with the mouse, snapped to the grid, and undo puts it back', async () => {
+    const { page } = browser
+    const admin = await signedIn('admin')
+    const name = `Sallow Mouse ${unique()}`
+    const created = await admin.post<{ id: number, slug: string }>('/api/layouts', { name })
+    expect(created.status).toBe(201)
+    made.push(created.body.id)
+    await signInThroughForm(page, DEMO.admin.email, DEMO.admin.password)
+    await page.waitForURL('**/panel')
+    await page.goto(`/layouts/${created.body.slug}/edit`)
+    const track = page.getByTestId('block-B1').locator('polyline.bb-track')
+    await track.waitFor({ state: 'attached' })
+    const pointsBefore = await track.getAttribute('points')
+    const transform = () => page.locator('[data-test="editor-canvas"] svg g[transform]').first().getAttribute('transform')
+
+    // the new layout's block B1 runs from (160,400) to (400,400) (shared/layouts/blank.ts): click it, then drag it
+    const on = await screenAt(page, 280, 400)
+    await page.mouse.click(on.x, on.y)
+    await expect.poll(() => page.getByTestId('inspector').textContent(), POLL).toContain('Block B1')
+    // showing the block's settings must not move the drawing under the pointer
+    const fittedAt = await transform()
+    await page.mouse.move(on.x, on.y)
+    await page.mouse.down()
+    // 100 drawing units right and 40 down, in steps; the grid (20 units) snaps the result
+    for (let i = 1; i <= 10; i++) await page.mouse.move(on.x + (103 * on.scale * i) / 10, on.y + (41 * on.scale * i) / 10)
+    await page.mouse.up()
+    await expect.poll(() => track.getAttribute('points'), POLL).not.toBe(pointsBefore)
+    expect(await transform()).toBe(fittedAt)
+    // the track is drawn 6 units short of each end (PanelBlock's END_GAP): 166..394 before, 266..494 after
+    expect(pointsBefore).toBe('166,400 394,400')
+    expect(await track.getAttribute('points')).toBe('266,440 494,440')
+    expect(await page.getByTestId('berth-B1').getAttribute('transform')).toMatch(/^translate\(380 410\)/)
+
+    await page.getByTestId('undo').click()
+    await expect.poll(() => track.getAttribute('points'), POLL).toBe(pointsBefore)
+    await page.getByTestId('redo').click()
+    await expect.poll(() => track.getAttribute('points'), POLL).toBe('266,440 494,440')
+    // the move is kept in this browser as a draft too (written shortly after the change)
+    await expect.poll(() => page.evaluate(s => JSON.parse(localStorage.getItem(`blockbell:layout-draft:${s}`) ?? 'null')?.definition.diagram.blocks.B1.path, created.body.slug), POLL)
+      .toEqual([[260, 440], [500, 440]])
   })
 })

@@ -2,6 +2,7 @@
 import { describe, expect, it } from 'vitest'
 import { blockAreaIndex, contentBounds, diagramMarks, markDistance, markScale, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagDirections, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
 import { demoLayout } from '../../support/live-fixtures'
+import { benchLayout } from '../../../scripts/lib/bench-layout'
 
 const def = demoLayout()
 const direction = (leg: [[number, number], [number, number]]) => {
@@ -106,6 +107,63 @@ describe('the demo drawing at the fitted zoom of a tablet', () => {
     const sf2 = dirs.SF2!
     expect(def.diagram.signals.SF2!.at[1] + sf2[1] * 40).toBeLessThan(def.diagram.height - 16)
     for (const v of Object.values(dirs)) expect(Math.hypot(v[0], v[1])).toBeCloseTo(1, 1)
+  })
+})
+
+describe('signalLabelDirections on a large drawing', () => {
+  // The function as it was before its grid index (every signal against every segment of the layout), kept here
+  // as the reference: the index must not change any answer.
+  function plain(def: ReturnType<typeof demoLayout>, reach = 40, clearance = 16): Record<string, [number, number]> {
+    const seg = (p: [number, number], a: [number, number], b: [number, number]) => {
+      const dx = b[0] - a[0]
+      const dy = b[1] - a[1]
+      const len2 = dx * dx + dy * dy
+      const t = len2 === 0 ? 0 : Math.min(1, Math.max(0, ((p[0] - a[0]) * dx + (p[1] - a[1]) * dy) / len2))
+      return { d: Math.hypot(p[0] - (a[0] + t * dx), p[1] - (a[1] + t * dy)), foot: [a[0] + t * dx, a[1] + t * dy] as [number, number] }
+    }
+    const facing: Record<string, [number, number]> = { left: [-1, 0], right: [1, 0], up: [0, -1], down: [0, 1] }
+    const segments = Object.values(def.diagram.blocks).flatMap(b => b.path.slice(1).map((p, i) => [b.path[i]!, p] as [[number, number], [number, number]]))
+    const compass: [number, number][] = [[-1, 0], [1, 0], [-0.71, -0.71], [0.71, -0.71], [-0.71, 0.71], [0.71, 0.71], [0, -1], [0, 1]]
+    const out: Record<string, [number, number]> = {}
+    for (const [id, s] of Object.entries(def.diagram.signals)) {
+      const r = reach * 2
+      const local = segments.filter(([a, b]) => s.at[0] >= Math.min(a[0], b[0]) - r && s.at[0] <= Math.max(a[0], b[0]) + r && s.at[1] >= Math.min(a[1], b[1]) - r && s.at[1] <= Math.max(a[1], b[1]) + r)
+      let away: [number, number] = [0, -1]
+      let best = Infinity
+      for (const [a, b] of local) {
+        const { d, foot } = seg(s.at, a, b)
+        if (d >= best) continue
+        best = d
+        const len = Math.hypot(s.at[0] - foot[0], s.at[1] - foot[1])
+        const v = facing[s.facing] ?? [1, 0]
+        away = len > 0.5 ? [(s.at[0] - foot[0]) / len, (s.at[1] - foot[1]) / len] : [v[1], -v[0]]
+      }
+      let chosen = away
+      let chosenGap = -1
+      for (const c of [away, ...compass]) {
+        const p: [number, number] = [s.at[0] + c[0] * reach, s.at[1] + c[1] * reach]
+        const g = Math.min(...local.map(([a, b]) => seg(p, a, b).d), Math.min(p[0], p[1], def.diagram.width - p[0], def.diagram.height - p[1]))
+        if (g >= clearance) { chosen = c; break }
+        if (g > chosenGap) { chosen = c; chosenGap = g }
+      }
+      out[id] = chosen
+    }
+    return out
+  }
+  it('gives every signal of the demo, moved about and scaled up, the direction the plain rule gives', () => {
+    const def = demoLayout()
+    for (const [factor, shift] of [[1, 0], [3, 7], [0.5, -13]] as const) {
+      const d = structuredClone(def)
+      for (const b of Object.values(d.diagram.blocks)) b.path = b.path.map(([x, y]) => [x * factor + shift, y * factor - shift])
+      for (const s of Object.values(d.diagram.signals)) s.at = [s.at[0] * factor + shift, s.at[1] * factor - shift]
+      d.diagram.width *= factor
+      d.diagram.height *= factor
+      expect(signalLabelDirections(d)).toEqual(plain(d))
+    }
+  })
+  it('gives the 500 signals of the generated benchmark line the directions the plain rule gives', () => {
+    const bench = benchLayout()
+    expect(signalLabelDirections(bench)).toEqual(plain(bench))
   })
 })
 
