@@ -1,4 +1,4 @@
-import type { DiagramFacingName, Layout, Point } from '../schemas/layout'
+import { AREA_COLOUR_NAMES, type DiagramFacingName, type Layout, type LayoutArea, type Point } from '../schemas/layout'
 import type { Aspect, OverrideMode, TurnoutPosition } from '../signalling/types'
 import { areaOfBlock } from './rights'
 
@@ -83,6 +83,11 @@ export function blockAreaIndex(def: Layout): Record<string, number> {
     if (area) out[b.id] = def.areas.indexOf(area)
   }
   return out
+}
+
+/** The colour an area is drawn in (0..3, the theme's area-N): its own choice, else by its place in the list. */
+export function areaColour(area: Pick<LayoutArea, 'colour'> | undefined, index: number): number {
+  return area?.colour ?? index % AREA_COLOUR_NAMES.length
 }
 
 /** Dash patterns that tell the area bands apart without colour (solid, long dashes, short dashes, ...). */

@@ -79,11 +79,16 @@ export const Signal = z.object({
   endOfLine: EndOfLine.optional(),
 })
 
+/** The colours an area of control can be drawn in, as the owner sees them named (the theme's roles area-0..3). */
+export const AREA_COLOUR_NAMES = ['Sky blue', 'Heather', 'Brass', 'Green'] as const
+
 export const Area = z.object({
   id: ItemId,
   name: Name,
   signals: z.array(ItemId),
   turnouts: z.array(ItemId),
+  /** The area's colour on the diagram (index into AREA_COLOUR_NAMES). Default: by the area's place in the list. */
+  colour: z.number().int().min(0).max(AREA_COLOUR_NAMES.length - 1).optional(),
 })
 
 /** Direction of travel of the trains that read a signal, as drawn on the diagram. */
