@@ -209,6 +209,20 @@ export function moveItem(def: Layout, item: ItemRef, dx: number, dy: number): vo
   }
 }
 
+/**
+ * Moves one point of a block's track (a bend, or an end) by (dx, dy) from where it is, onto the grid and
+ * inside the drawing area. The rest of the track and the berth stay where they are.
+ */
+export function movePathPoint(def: Layout, block: string, index: number, dx: number, dy: number): void {
+  const d = def.diagram.blocks[block]
+  const p = d?.path[index]
+  if (!d || !p) return
+  const { width: w, height: h } = def.diagram
+  const next = [...d.path]
+  next[index] = moved(snap(moved(p, dx, dy, w, h)), 0, 0, w, h)
+  d.path = next
+}
+
 /** Renames an item's id everywhere it is referred to. False when the new id is taken. */
 export function renameId(def: Layout, item: ItemRef, to: string): boolean {
   const from = item.id

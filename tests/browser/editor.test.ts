@@ -4,6 +4,7 @@ import type { Page } from 'playwright-core'
 import { validateLayout } from '#shared/signalling'
 import { DEMO, signedIn, unique } from '../support/http-client'
 import { openBrowser, screenshot, signInThroughForm, type BrowserSession } from '../support/browser'
+import { lineLayout } from '../support/layout-fixtures'
 
 // The layout editor on a touch screen at 1024x768, driven by taps only: build a layout from nothing, see a
 // problem and fix it, try the signalling, save it, watch it on the Panel, export it and import the export.
@@ -26,6 +27,35 @@ function screenAt(page: Page, x: number, y: number) {
     const r = svg.getBoundingClientRect()
     return { x: r.left + Number(m[1]) + px * Number(m[3]), y: r.top + Number(m[2]) + py * Number(m[3]), scale: Number(m[3]) }
   }, [x, y] as [number, number])
+}
+
+/**
+ * A line of three blocks (tests/support/layout-fixtures.ts) whose B1 bends at (200,260), and its area of
+ * control "hollin" (signals S2 and S3, so it covers B2 and B3) with no colour of its own.
+ */
+async function bentLine(made: number[]) {
+  const admin = await signedIn('admin')
+  const definition = lineLayout(`Sallow Bend ${unique()}`, 3)
+  definition.diagram!.blocks!.B1!.path = [[100, 200], [200, 260], [290, 200]]
+  const created = await admin.post<{ id: number, slug: string }>('/api/layouts', { name: definition.name, definition })
+  expect(created.status).toBe(201)
+  made.push(created.body.id)
+  return created.body
+}
+
+/** The points of a block's track as drawn (PanelBlock draws the ends a little short of the path's ends). */
+const drawnPoints = async (page: Page, block: string) =>
+  (await page.getByTestId(`block-${block}`).locator('polyline.bb-track').getAttribute('points'))!.split(' ')
+
+/** A finger drag from one screen point to another in steps, as Chromium gets it from a touch screen. */
+async function touchDrag(page: Page, from: { x: number, y: number }, to: { x: number, y: number }) {
+  const cdp = await page.context().newCDPSession(page)
+  await cdp.send('Input.dispatchTouchEvent', { type: 'touchStart', touchPoints: [{ x: from.x, y: from.y }] })
+  for (let i = 1; i <= 10; i++) {
+    await cdp.send('Input.dispatchTouchEvent', { type: 'touchMove', touchPoints: [{ x: from.x + (to.x - from.x) * i / 10, y: from.y + (to.y - from.y) * i / 10 }] })
+  }
+  await cdp.send('Input.dispatchTouchEvent', { type: 'touchEnd', touchPoints: [] })
+  await cdp.detach()
 }
 
 async function drawBlock(page: Page, points: [number, number][]) {
@@ -164,6 +194,83 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
     expect(validateLayout(copy).ok).toBe(true)
     expect(problems).toEqual([])
   })
+
+  it('drags one bend of a selected block with a finger, snapped to the grid; undo and redo', async () => {
+    const { page } = browser
+    const layout = await bentLine(made)
+    await page.goto(`/layouts/${layout.slug}/edit`)
+    await page.getByTestId('block-B1').locator('polyline.bb-track').waitFor({ state: 'attached' })
+    const before = await drawnPoints(page, 'B1')
+    expect(before[1]).toBe('200,260')
+    await page.getByTestId('tool-select').tap()
+    await tapAt(page, 150, 230)
+    await expect.poll(() => page.getByTestId('inspector').textContent(), POLL).toContain('Block B1')
+    await page.getByTestId('track-point-1').waitFor({ state: 'attached' })
+
+    // the bend, 43 units right and 61 down: (243,321) on the 20-unit grid is (240,320)
+    const from = await screenAt(page, 200, 260)
+    await touchDrag(page, from, { x: from.x + 43 * from.scale, y: from.y + 61 * from.scale })
+    await expect.poll(async () => (await drawnPoints(page, 'B1'))[1], POLL).toBe('240,320')
+    const after = await drawnPoints(page, 'B1')
+    // the ends stay where they were (drawn short of the path's ends, so compare them as drawn)
+    expect(after.length).toBe(3)
+    expect(after[2]).toBe(before[2])
+    // the rest of the drawing stays too
+    expect(await drawnPoints(page, 'B2')).toEqual(['106,200', '284,200'])
+    expect(await page.getByTestId('inspector').textContent()).toContain('Block B1')
+
+    await page.getByTestId('undo').tap()
+    await expect.poll(async () => (await drawnPoints(page, 'B1'))[1], POLL).toBe('200,260')
+    expect(await drawnPoints(page, 'B1')).toEqual(before)
+    await page.getByTestId('redo').tap()
+    await expect.poll(async () => (await drawnPoints(page, 'B1'))[1], POLL).toBe('240,320')
+    expect(problems).toEqual([])
+  })
+
+  it('picks an area\'s colour from the swatches, saves it, and the Panel draws the area\'s band and legend in it', async () => {
+    const { page } = browser
+    const layout = await bentLine(made)
+    await page.goto(`/layouts/${layout.slug}/edit`)
+    await page.getByTestId('block-B2').locator('polyline.bb-track').waitFor({ state: 'attached' })
+    // no colour of its own: the first area takes the first colour, as before
+    expect(await page.getByTestId('area-band-hollin').getAttribute('stroke')).toBe('var(--bb-area-0)')
+    await page.getByRole('button', { name: 'Hollin bank', exact: true }).tap()
+    const inspector = page.getByTestId('inspector')
+    await expect.poll(() => inspector.textContent(), POLL).toContain('Area of control hollin')
+    const swatch = (i: number) => page.getByTestId(`area-colour-${i}`)
+    expect(await swatch(0).getAttribute('aria-checked')).toBe('true')
+    for (const i of [0, 1, 2, 3]) {
+      const box = (await swatch(i).boundingBox())!
+      expect(box.height).toBeGreaterThanOrEqual(44)
+      expect(box.width).toBeGreaterThanOrEqual(44)
+    }
+
+    await swatch(2).tap()
+    await expect.poll(() => swatch(2).getAttribute('aria-checked'), POLL).toBe('true')
+    expect(await swatch(0).getAttribute('aria-checked')).toBe('false')
+    // marked by more than colour: a tick and the name in bold beside it
+    expect(await swatch(2).getByTestId('area-colour-chosen').count()).toBe(1)
+    expect(await page.getByTestId('area-colour-chosen').count()).toBe(1)
+    expect(await swatch(2).textContent()).toContain('Brass')
+    await expect.poll(() => page.getByTestId('area-band-hollin').getAttribute('stroke'), POLL).toBe('var(--bb-area-2)')
+    for (const theme of ['dark', 'light'] as const) {
+      if ((await page.getByTestId('theme').getAttribute('data-theme')) !== theme) await page.getByTestId('theme').tap()
+      await expect.poll(() => page.evaluate(() => document.documentElement.classList.contains('light')), POLL).toBe(theme === 'light')
+      await screenshot(page, `editor-area-colour-${theme}-1024x768`, false)
+    }
+    await page.getByTestId('theme').tap() // back to dark
+
+    await page.getByTestId('save').tap()
+    await expect.poll(() => page.getByTestId('save-message').textContent(), POLL).toMatch(/it is current/)
+    const stored = (await (await page.request.get(`/api/layouts/${layout.id}`)).json()).layout.definition
+    expect(stored.areas[0].colour).toBe(2)
+
+    await page.goto(`/panel/${layout.slug}`)
+    await page.getByTestId('area-band-hollin').waitFor({ state: 'attached' })
+    expect(await page.getByTestId('area-band-hollin').getAttribute('stroke')).toBe('var(--bb-area-2)')
+    expect(await page.getByTestId('legend-hollin').locator('line').getAttribute('stroke')).toBe('var(--bb-area-2)')
+    expect(problems).toEqual([])
+  })
 })
 
 describe('layout editor with a mouse (Debian chromium)', () => {
@@ -218,5 +325,29 @@ describe('layout editor with a mouse (Debian chromium)', () => {
     // the move is kept in this browser as a draft too (written shortly after the change)
     await expect.poll(() => page.evaluate(s => JSON.parse(localStorage.getItem(`blockbell:layout-draft:${s}`) ?? 'null')?.definition.diagram.blocks.B1.path, created.body.slug), POLL)
       .toEqual([[260, 440], [500, 440]])
+  })
+
+  it('drags one bend of a selected block with the mouse, snapped to the grid, and undo puts it back', async () => {
+    const { page } = browser
+    const layout = await bentLine(made)
+    await page.goto(`/layouts/${layout.slug}/edit`)
+    await page.getByTestId('block-B1').locator('polyline.bb-track').waitFor({ state: 'attached' })
+    const before = await drawnPoints(page, 'B1')
+    const on = await screenAt(page, 150, 230)
+    await page.mouse.click(on.x, on.y)
+    await expect.poll(() => page.getByTestId('inspector').textContent(), POLL).toContain('Block B1')
+
+    // the bend, 78 units left and 37 up: (122,223) on the 20-unit grid is (120,220)
+    const bend = await screenAt(page, 200, 260)
+    await page.mouse.move(bend.x, bend.y)
+    await page.mouse.down()
+    for (let i = 1; i <= 10; i++) await page.mouse.move(bend.x - (78 * bend.scale * i) / 10, bend.y - (37 * bend.scale * i) / 10)
+    await page.mouse.up()
+    await expect.poll(async () => (await drawnPoints(page, 'B1'))[1], POLL).toBe('120,220')
+    expect((await drawnPoints(page, 'B1'))[2]).toBe(before[2])
+    await expect.poll(() => page.evaluate(s => JSON.parse(localStorage.getItem(`blockbell:layout-draft:${s}`) ?? 'null')?.definition.diagram.blocks.B1.path, layout.slug), POLL)
+      .toEqual([[100, 200], [120, 220], [290, 200]])
+    await page.keyboard.press('Control+z')
+    await expect.poll(async () => (await drawnPoints(page, 'B1'))[1], POLL).toBe('200,260')
   })
 })

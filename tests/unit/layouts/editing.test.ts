@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { LayoutDefinition, type Layout } from '#shared/schemas/layout'
 import { validateLayout } from '#shared/signalling'
-import { addBlock, addSignal, addTurnout, deleteItem, itemOfError, moveItem, renameId, snap } from '#shared/layouts/editing'
+import { addBlock, addSignal, addTurnout, deleteItem, itemOfError, moveItem, movePathPoint, renameId, snap } from '#shared/layouts/editing'
 
 const empty = (): Layout => LayoutDefinition.parse({ schema: 1, name: 'Sallow Light', scale: { name: 'N', ratio: 148 }, blocks: [{ id: 'X', name: 'x', lengthMm: 1, detectors: [] }], links: [] })
 
@@ -67,6 +67,22 @@ describe('editing a layout', () => {
     const d = junction()
     moveItem(d, { kind: 'block', id: 'B1' }, -300, 20)
     expect(d.diagram.blocks.B1!.path).toEqual([[0, 420], [100, 420]])
+  })
+
+  it('moves one bend of a track onto the grid and leaves the other points and the berth where they were', () => {
+    const d = junction()
+    const label = d.diagram.blocks.B4!.label
+    movePathPoint(d, 'B4', 1, 27, -48)
+    // (680,480) + (27,-48) = (707,432), nearest grid point (20 units) is (700,440)
+    expect(d.diagram.blocks.B4!.path).toEqual([[600, 400], [700, 440], [840, 480]])
+    expect(d.diagram.blocks.B4!.label).toEqual(label)
+    // kept inside the drawing area; a point that is not there or a block not drawn changes nothing
+    movePathPoint(d, 'B4', 2, 5000, 5000)
+    expect(d.diagram.blocks.B4!.path[2]).toEqual([d.diagram.width, d.diagram.height])
+    const before = structuredClone(d.diagram.blocks)
+    movePathPoint(d, 'B4', 3, 20, 20)
+    movePathPoint(d, 'B9', 0, 20, 20)
+    expect(d.diagram.blocks).toEqual(before)
   })
 
   it('finds the item an error is about from its path', () => {
