@@ -53,13 +53,32 @@ function toListItem(row: SessionRow, now = Date.now()): SessionListItem {
   }
 }
 
-/** Starts a session on a layout; 409 when one is already running there (the database decides between two starts). */
+/** Work a layout's owner does when the request reached another process (registered by the live plugin). */
+export const SESSION_START_WORK = 'session-start'
+export const SESSION_END_WORK = 'session-end'
+
+/**
+ * Starts a session on a layout; 409 when one is already running there (the database decides between two
+ * starts). Several processes: the process that runs the layout does it, wherever the request landed.
+ */
 export async function startOperatingSession(user: SessionUser, body: StartSessionBody): Promise<{ id: number }> {
   const db = useDatabase()
   const layout = await db.models.Layout.findOne({ where: { slug: body.layout } })
   if (!layout) throw createError({ statusCode: 404, message: `layout: there is no layout "${body.layout}"` })
   const live = useLive()
   await live.whenReady()
+  if (live.runsElsewhere(body.layout)) {
+    return atLayoutOwner(body.layout, SESSION_START_WORK, { user, body }, 'The session may or may not have started: look at the list of sessions before you try again.')
+  }
+  return startSessionHere(user, body)
+}
+
+/** Starts a session on a layout this process runs (or the only process). */
+export async function startSessionHere(user: SessionUser, body: StartSessionBody): Promise<{ id: number }> {
+  const db = useDatabase()
+  const layout = await db.models.Layout.findOne({ where: { slug: body.layout } })
+  if (!layout) throw createError({ statusCode: 404, message: `layout: there is no layout "${body.layout}"` })
+  const live = useLive()
   const runtime = live.runtime(body.layout)
   if (!runtime) throw createError({ statusCode: 409, message: `layout: ${layout.name} is not running live (its definition has errors), so a session cannot start on it.` })
   let row
@@ -84,7 +103,21 @@ export async function startOperatingSession(user: SessionUser, body: StartSessio
   return { id: row.id }
 }
 
+/** Ends a running session. Several processes: the process that runs its layout does it. */
 export async function endOperatingSession(user: SessionUser, id: number): Promise<{ id: number, endedAt: string }> {
+  const db = useDatabase()
+  const live = useLive()
+  await live.whenReady()
+  const [where] = await db.sequelize.query<{ slug: string }>('SELECT l.slug FROM operating_sessions s JOIN layouts l ON l.id = s.layout_id WHERE s.id = :id',
+    { replacements: { id }, type: QueryTypes.SELECT })
+  if (where && live.runsElsewhere(where.slug)) {
+    return atLayoutOwner(where.slug, SESSION_END_WORK, { user, id }, 'The session may or may not have ended: look at the list of sessions before you try again.')
+  }
+  return endSessionHere(user, id)
+}
+
+/** Ends a session whose layout this process runs (or does not run at all). */
+export async function endSessionHere(user: SessionUser, id: number): Promise<{ id: number, endedAt: string }> {
   const db = useDatabase()
   const [rows] = await db.sequelize.query(
     `UPDATE operating_sessions SET ended_at = now(), ended_by = :userId WHERE id = :id AND ended_at IS NULL RETURNING layout_id, ended_at`,
