@@ -27,8 +27,12 @@ export default defineNuxtConfig({
   compatibilityDate: '2025-07-15',
   nitro: {
     experimental: { websocket: true },
+    // Uploaded photos (server/utils/uploads.ts); server/plugins/uploads-storage.ts can move them by configuration.
+    storage: { uploads: { driver: 'fs', base: './.data/uploads' } },
     errorHandler: ['~/server/error-handler', nuxtErrorHandler],
   },
+  // Photo uploads check their own size (10 MB) and say so; other bodies keep nuxt-security's limits.
+  routeRules: { '/api/uploads': { security: { requestSizeLimiter: false } } },
   typescript: { strict: true },
   telemetry: false,
   auth: { hash: { scrypt: SCRYPT_OPTIONS } },

@@ -3,6 +3,7 @@ import { QueryTypes, type Sequelize } from 'sequelize'
 import { DEFAULT_THRESHOLDS, dueState, type CleaningThresholds } from '#shared/maintenance/due'
 import type { CleaningInput, ThresholdsInput } from '#shared/schemas/maintenance'
 import type { BlockMaintenance, CleaningRecord } from '#shared/types/maintenance'
+import { missingUploadIds, uploadedPhoto } from './upload-records'
 
 interface UseRow { block: string, passages: string, occupied_seconds: string | null, dropouts: string, cleaned_at: Date | null }
 
@@ -125,21 +126,24 @@ export async function recordCleaning(sequelize: Sequelize, layoutId: number, def
   const unknown = input.blocks.filter(b => !known.has(b))
   if (unknown.length) throw createError({ statusCode: 400, message: `blocks: no block ${unknown.map(b => `"${b}"`).join(', ')} on this layout` })
   if (input.at !== undefined && input.at > now + 60_000) throw createError({ statusCode: 400, message: 'at: a cleaning cannot be recorded in the future' })
+  const photos = [...new Set(input.photos ?? [])]
+  const missing = await missingUploadIds(sequelize, photos)
+  if (missing.length) throw createError({ statusCode: 400, message: `photos: no uploaded photo ${missing.join(', ')}` })
   // a trigger (migration 0012) recounts the cleaned blocks' tallies from their latest cleaning in the same statement
   const [rows] = await sequelize.query(`
-    INSERT INTO cleanings (layout_id, blocks, method, notes, done_at, done_by, created_at)
-    VALUES (:layoutId, ARRAY[:blocks]::varchar[], :method, :notes, :at, :userId, now())
+    INSERT INTO cleanings (layout_id, blocks, method, notes, done_at, done_by, created_at, photos)
+    VALUES (:layoutId, ARRAY[:blocks]::varchar[], :method, :notes, :at, :userId, now(), CAST(:photos AS uuid[]))
     RETURNING id
-  `, { replacements: { layoutId, blocks: [...new Set(input.blocks)], method: input.method, notes: input.notes || null, at: new Date(input.at ?? now), userId } })
+  `, { replacements: { layoutId, blocks: [...new Set(input.blocks)], method: input.method, notes: input.notes || null, at: new Date(input.at ?? now), userId, photos: `{${photos.join(',')}}` } })
   return (rows as { id: number }[])[0]!.id
 }
 
 /** The latest cleanings of a layout, newest first, with who did them. */
 export async function listCleanings(sequelize: Sequelize, layoutId: number, limit = 50): Promise<CleaningRecord[]> {
-  const rows = await sequelize.query<{ id: number, blocks: string[], method: string, notes: string | null, done_at: Date, name: string | null }>(`
-    SELECT c.id, c.blocks, c.method, c.notes, c.done_at, u.name
+  const rows = await sequelize.query<{ id: number, blocks: string[], method: string, notes: string | null, done_at: Date, name: string | null, photos: string[] }>(`
+    SELECT c.id, c.blocks, c.method, c.notes, c.done_at, u.name, c.photos::text[] AS photos
     FROM cleanings c LEFT JOIN users u ON u.id = c.done_by
     WHERE c.layout_id = :layoutId ORDER BY c.done_at DESC, c.id DESC LIMIT :limit
   `, { replacements: { layoutId, limit }, type: QueryTypes.SELECT })
-  return rows.map(r => ({ id: r.id, blocks: r.blocks, method: r.method, notes: r.notes, at: r.done_at.toISOString(), by: r.name }))
+  return rows.map(r => ({ id: r.id, blocks: r.blocks, method: r.method, notes: r.notes, at: r.done_at.toISOString(), by: r.name, photos: r.photos.map(uploadedPhoto) }))
 }

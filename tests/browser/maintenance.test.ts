@@ -1,6 +1,7 @@
 // The Maintenance screen in Debian's chromium on a touch tablet: record a cleaning by tapping the blocks'
 // rows, see them return to "OK". Fails on any console error (hydration warnings included).
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import sharp from 'sharp'
 import { DEMO } from '../support/http-client'
 import { openBrowser, screenshot, signInThroughForm, type BrowserSession } from '../support/browser'
 
@@ -30,6 +31,24 @@ describe('Maintenance screen', () => {
     expect(await page.getByTestId('block-DM1').textContent()).not.toContain('never')
     await expect.poll(() => page.getByTestId('cleanings').textContent()).toContain('DM1, DM2')
     await screenshot(page, 'maintenance-recorded-1024x768')
+    expect(consoleErrors).toEqual([])
+  })
+
+  it('records a cleaning with a photo, shown as a thumbnail in the history', async () => {
+    const { page } = browser
+    await page.setViewportSize({ width: 1280, height: 800 })
+    await page.goto('/maintenance')
+    await expect.poll(() => page.getByTestId('maintenance-blocks').count()).toBe(1)
+    await page.getByLabel(/^Pick UM4 /).click()
+    const photo = await sharp({ create: { width: 900, height: 600, channels: 3, background: '#7d6b4f' } }).jpeg().toBuffer()
+    await page.getByTestId('photo-input').setInputFiles({ name: 'um4-after.jpg', mimeType: 'image/jpeg', buffer: photo })
+    await expect.poll(() => page.getByTestId('photo-thumbnail').count()).toBe(1)
+    await screenshot(page, 'maintenance-photo-1280x800')
+    await page.getByTestId('record').click()
+    await expect.poll(() => page.getByRole('status').first().textContent()).toContain('Cleaning of UM4 recorded with 1 photo.')
+    const shown = page.getByTestId('cleaning').first().getByTestId('cleaning-photo')
+    await expect.poll(() => shown.evaluate((img: HTMLImageElement) => img.complete && img.naturalWidth)).toBe(320)
+    await screenshot(page, 'maintenance-recorded-1280x800')
     expect(consoleErrors).toEqual([])
   })
 })
