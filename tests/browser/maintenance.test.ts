@@ -41,7 +41,7 @@ describe('Maintenance screen', () => {
     await expect.poll(() => page.getByTestId('maintenance-blocks').count()).toBe(1)
     await page.getByLabel(/^Pick UM4 /).click()
     const photo = await sharp({ create: { width: 900, height: 600, channels: 3, background: '#7d6b4f' } }).jpeg().toBuffer()
-    await page.getByTestId('photo-input').setInputFiles({ name: 'um4-after.jpg', mimeType: 'image/jpeg', buffer: photo })
+    await page.getByTestId('record-cleaning').getByTestId('photo-input').setInputFiles({ name: 'um4-after.jpg', mimeType: 'image/jpeg', buffer: photo })
     await expect.poll(() => page.getByTestId('photo-thumbnail').count()).toBe(1)
     await screenshot(page, 'maintenance-photo-1280x800')
     await page.getByTestId('record').click()
@@ -50,5 +50,40 @@ describe('Maintenance screen', () => {
     await expect.poll(() => shown.evaluate((img: HTMLImageElement) => img.complete && img.naturalWidth)).toBe(320)
     await screenshot(page, 'maintenance-recorded-1280x800')
     expect(consoleErrors).toEqual([])
+  })
+
+  it('adds a locomotive with a photo to the roster and gives it the description it runs under (admin)', async () => {
+    const admin = await openBrowser({ width: 1024, height: 768 })
+    const errors: string[] = []
+    admin.page.on('console', (m) => { if (m.type() === 'error' || /hydration/i.test(m.text())) errors.push(m.text()) })
+    try {
+      const { page } = admin
+      await signInThroughForm(page, DEMO.admin.email, DEMO.admin.password)
+      await page.waitForURL('**/panel')
+      await page.goto('/maintenance')
+      await expect.poll(() => page.getByTestId('stock-form').count()).toBe(1)
+      const name = `Class 08 shunter ${Date.now() % 100000}`
+      await page.getByLabel('Name', { exact: true }).fill(name)
+      await page.getByLabel('Number (optional)').fill('08 611')
+      await page.getByLabel('Service every … running hours').fill('20')
+      const photo = await sharp({ create: { width: 640, height: 480, channels: 3, background: '#2f4a3a' } }).png().toBuffer()
+      await page.getByTestId('stock-form').getByTestId('photo-input').setInputFiles({ name: 'shunter.png', mimeType: 'image/png', buffer: photo })
+      await expect.poll(() => page.getByTestId('stock-form').getByTestId('photo-thumbnail').count()).toBe(1)
+      await page.getByTestId('stock-add').click()
+      const row = page.locator('[data-test^="stock-"]', { hasText: name }).first()
+      await expect.poll(() => row.count()).toBe(1)
+      await expect.poll(() => row.textContent()).toContain('0.0 running hours')
+      await row.getByLabel('Runs under train description').fill('6K21')
+      await row.getByRole('button', { name: 'Set' }).click()
+      await expect.poll(() => page.getByLabel('Runs under train description').last().inputValue()).toBe('6K21')
+      await page.getByTestId('stock-roster').scrollIntoViewIfNeeded()
+      await screenshot(page, 'roster-1024x768')
+      await page.setViewportSize({ width: 1280, height: 800 })
+      await page.getByTestId('stock-roster').scrollIntoViewIfNeeded()
+      await screenshot(page, 'roster-1280x800')
+      expect(errors).toEqual([])
+    } finally {
+      await admin.close()
+    }
   })
 })
