@@ -1,6 +1,8 @@
 // Blockbell application configuration. Root-level layout: pages/, components/, stores/ at the top.
 import { fileURLToPath } from 'node:url'
 import { SCRYPT_OPTIONS } from './server/database/scrypt-options'
+import { themes } from './tailwind.config'
+import { THEME_BOOT_SCRIPT } from './shared/theme/boot'
 
 // Nuxt installs its own error handler only when none is set: list ours first, then Nuxt's.
 const nuxtErrorHandler = fileURLToPath(new URL('./node_modules/@nuxt/nitro-server/dist/runtime/handlers/error.mjs', import.meta.url))
@@ -14,8 +16,18 @@ export default defineNuxtConfig({
       htmlAttrs: { lang: 'en' },
       meta: [
         { name: 'viewport', content: 'width=device-width, initial-scale=1' },
-        { name: 'theme-color', content: '#0f1720' },
+        { name: 'theme-color', content: themes.dark.surface },
+        { name: 'mobile-web-app-capable', content: 'yes' },
+        { name: 'apple-mobile-web-app-title', content: 'Blockbell' },
       ],
+      link: [
+        { rel: 'manifest', href: '/manifest.webmanifest' },
+        { rel: 'icon', href: '/favicon.ico', sizes: '32x32' },
+        { rel: 'icon', href: '/icon.svg', type: 'image/svg+xml' },
+        { rel: 'apple-touch-icon', href: '/apple-touch-icon.png' },
+      ],
+      // the remembered theme before the first paint, so a light-theme tablet never flashes dark
+      script: [{ innerHTML: THEME_BOOT_SCRIPT, tagPosition: 'head' }],
     },
   },
   css: ['@fontsource/barlow/400.css', '@fontsource/barlow/600.css', '@fontsource/barlow/700.css', '~/assets/css/main.css'],

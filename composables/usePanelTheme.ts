@@ -1,7 +1,8 @@
-const KEY = 'blockbell-theme'
+import { THEME_KEY as KEY } from '#shared/theme/boot'
 
 /**
- * Dark by default; light on request. The choice is the `light` class on <html>, remembered in localStorage.
+ * Dark by default; light on request, for the whole app. The choice is the `light` class on <html>,
+ * remembered in localStorage (a script in the page head applies it before the first paint).
  */
 export function usePanelTheme() {
   const light = useState('panel-theme-light', () => false)

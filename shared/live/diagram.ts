@@ -11,17 +11,17 @@ import { areaOfBlock } from './rights'
 export type AspectCue = 'bar' | 'dot' | 'two-dots' | 'arrow'
 
 export const ASPECT_CUE: Record<Aspect, AspectCue> = {
-  danger: 'bar',
-  caution: 'dot',
+  'danger': 'bar',
+  'caution': 'dot',
   'preliminary-caution': 'two-dots',
-  proceed: 'arrow',
+  'proceed': 'arrow',
 }
 
 export const ASPECT_LABEL: Record<Aspect, string> = {
-  danger: 'Danger',
-  caution: 'Caution',
+  'danger': 'Danger',
+  'caution': 'Caution',
   'preliminary-caution': 'Preliminary caution',
-  proceed: 'Proceed',
+  'proceed': 'Proceed',
 }
 
 export const OVERRIDE_LABEL: Record<OverrideMode, string> = { hold: 'Hold', auto: 'Auto', clear: 'Clear' }
@@ -130,17 +130,67 @@ export function markScale(scale: number, max = 2.4): number {
 /** Sizes of the marks in mark units (screen pixels at the fitted zoom, see markScale). */
 export const MARK = {
   lamp: 12.5,
-  signalText: 13,
-  tag: 11,
-  tagOffset: 21,
-  berthHeight: 21,
-  berthText: 14,
-  labelText: 13,
+  signalText: 16,
+  tag: 13,
+  tagOffset: 24,
+  berthHeight: 23,
+  berthText: 16,
+  labelText: 16,
+  /** Smallest tap target, each way (WCAG 2.2 SC 2.5.5 asks 44 x 44 CSS px). */
+  hit: 44,
 } as const
+
+/** Width of a text of `chars` characters at `size` px in the drawing's font (Barlow, about 0.56 em a character). */
+export function textWidth(chars: number, size: number): number {
+  return chars * size * 0.56
+}
+
+/**
+ * A block's path with `gap` drawing units taken off each end, so that the ends of neighbouring blocks stand
+ * apart on the drawing (a path too short to lose that keeps its middle third).
+ */
+export function trimPath(path: Point[], gap: number): Point[] {
+  if (path.length < 2) return path
+  const cut = (pts: Point[], by: number): Point[] => {
+    const out = pts.slice()
+    let left = by
+    while (out.length >= 2) {
+      const [a, b] = [out[0]!, out[1]!]
+      const len = Math.hypot(b[0] - a[0], b[1] - a[1])
+      if (len > left) {
+        const t = left / len
+        out[0] = [a[0] + (b[0] - a[0]) * t, a[1] + (b[1] - a[1]) * t]
+        return out
+      }
+      left -= len
+      out.shift()
+    }
+    return out
+  }
+  let total = 0
+  for (let i = 1; i < path.length; i++) total += Math.hypot(path[i]![0] - path[i - 1]![0], path[i]![1] - path[i - 1]![1])
+  const g = Math.min(gap, total / 3)
+  return cut(cut(path, g).reverse(), g).reverse()
+}
 
 /** Width in mark units of a berth holding `description` (an empty berth is a small box). */
 export function berthWidth(description: string | null): number {
-  return Math.max(30, (description?.length ?? 0) * 9 + 12)
+  // descriptions are set in a monospace face, about 0.62 em a character
+  return Math.max(30, (description?.length ?? 0) * MARK.berthText * 0.62 + 14)
+}
+
+/** A box of at least MARK.hit x MARK.hit mark units round `centre`, `width` x `height` when larger. */
+export function hitBox(centre: Point, width: number, height: number, k: number): { x: number, y: number, width: number, height: number } {
+  const w = Math.max(width, MARK.hit) * k
+  const h = Math.max(height, MARK.hit) * k
+  return { x: centre[0] - w / 2, y: centre[1] - h / 2, width: w, height: h }
+}
+
+/** Where a signal's id is written, from the lamp centre in mark units, for a label pointing `dir`. */
+export function signalTextOffset(id: string, dir: Point): Point {
+  const [dx, dy] = dir
+  const reach = MARK.lamp + 5 + Math.abs(dx) * textWidth(id.length, MARK.signalText) / 2 + Math.abs(dy) * MARK.signalText * 0.55
+  return [dx * reach, dy * reach]
 }
 
 function segmentDistance(p: Point, a: Point, b: Point): number {
@@ -213,9 +263,9 @@ export function signalLabelDirections(def: Layout, reach = 40, clearance = 16): 
 }
 
 /** Something on the diagram a tap can open, with where it is drawn (drawing units). */
-export type Mark =
-  | { key: string, at: Point, r: number }
-  | { key: string, box: { x: number, y: number, width: number, height: number } }
+export type Mark
+  = | { key: string, at: Point, r: number }
+    | { key: string, box: { x: number, y: number, width: number, height: number } }
 
 /** Distance from `p` to a mark's drawn shape (0 inside it). */
 export function markDistance(m: Mark, p: Point): number {
@@ -254,4 +304,77 @@ export function nearestMark(marks: Iterable<Mark>, p: Point, radius: number): st
 /** Which side of a turnout's point its tag goes: +1 below, -1 above, away from where its legs run. */
 export function turnoutTagSide(at: Point, legs: { normal: [Point, Point], reverse: [Point, Point] }): number {
   return legs.normal[1][1] + legs.reverse[1][1] - 2 * at[1] > 0 ? -1 : 1
+}
+
+const TAG_DIRECTIONS: Point[] = [[0, 1], [0, -1], [0.71, 0.71], [-0.71, 0.71], [0.71, -0.71], [-0.71, -0.71], [1, 0], [-1, 0]]
+
+/**
+ * Which way from each turnout's point its tag is drawn, as a unit vector: of below, above, the diagonals and
+ * the sides (the side away from its legs first), the one whose tag lands farthest from the other marks at
+ * mark scale `k` (signal lamps and ids, berths, other turnouts), so that each keeps a tap area of its own.
+ */
+export function turnoutTagDirections(def: Layout, k: number, labelDirs: Record<string, Point>): Record<string, Point> {
+  const others: { owner: string, at: Point }[] = []
+  for (const [id, s] of Object.entries(def.diagram.signals)) {
+    others.push({ owner: `signal:${id}`, at: s.at })
+    const [ox, oy] = signalTextOffset(id, labelDirs[id] ?? [0, -1])
+    others.push({ owner: `signal:${id}`, at: [s.at[0] + ox * k, s.at[1] + oy * k] })
+  }
+  for (const [id, b] of Object.entries(def.diagram.blocks)) if (b.label) others.push({ owner: `block:${id}`, at: b.label })
+  for (const [id, t] of Object.entries(def.diagram.turnouts)) others.push({ owner: `turnout:${id}`, at: t.at })
+  const out: Record<string, Point> = {}
+  // tap boxes are squares: two keep apart when their centres are a box apart along x or y
+  const apart = (a: Point, b: Point) => Math.max(Math.abs(a[0] - b[0]), Math.abs(a[1] - b[1]))
+  for (const t of def.turnouts) {
+    const at = def.diagram.turnouts[t.id]?.at
+    const legs = turnoutLegs(def, t.id)
+    if (!at || !legs) continue
+    const first: Point = [0, turnoutTagSide(at, legs)]
+    let best = first
+    let bestGap = -1
+    for (const dir of [first, ...TAG_DIRECTIONS]) {
+      const p: Point = [at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k]
+      const gap = others.filter(o => o.owner !== `turnout:${t.id}`).reduce((m, o) => Math.min(m, apart(o.at, p)), Infinity)
+      // a clear enough place is taken at once, so tags stay on their usual side where they can
+      if (gap >= MARK.hit * k) {
+        best = dir
+        break
+      }
+      if (gap > bestGap + 0.5) {
+        best = dir
+        bestGap = gap
+      }
+    }
+    out[t.id] = best
+    others.push({ owner: `tag:${t.id}`, at: [at[0] + best[0] * MARK.tagOffset * k, at[1] + best[1] * MARK.tagOffset * k] })
+  }
+  return out
+}
+
+/**
+ * Every tap target on the drawing at mark scale `k`, in drawing units: a box of at least MARK.hit x MARK.hit
+ * mark units round each signal lamp, turnout tag and berth, the turnout's point, and each signal's id (its
+ * text, a little enlarged) as part of its signal. `shown` is what each berth holds ("?" for an undescribed train).
+ */
+export function diagramMarks(def: Layout, k: number, labelDirs: Record<string, Point>, tagDirs: Record<string, Point>, shown: (block: string) => string | null): Mark[] {
+  const d = def.diagram
+  const out: Mark[] = []
+  for (const [id, sig] of Object.entries(d.signals)) {
+    out.push({ key: `signal:${id}`, box: hitBox(sig.at, 2 * MARK.lamp, 2 * MARK.lamp, k) })
+    const [ox, oy] = signalTextOffset(id, labelDirs[id] ?? [0, -1])
+    const w = (textWidth(id.length, MARK.signalText) + 8) * k
+    const h = (MARK.signalText * 1.2 + 6) * k
+    out.push({ key: `signal:${id}`, box: { x: sig.at[0] + ox * k - w / 2, y: sig.at[1] + oy * k - h / 2, width: w, height: h } })
+  }
+  for (const t of def.turnouts) {
+    const at = d.turnouts[t.id]?.at
+    const dir = tagDirs[t.id]
+    if (!at || !dir) continue
+    out.push({ key: `turnout:${t.id}`, box: hitBox([at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k], 2 * MARK.tag, 2 * MARK.tag, k) })
+    out.push({ key: `turnout:${t.id}`, at, r: 6 })
+  }
+  for (const [id, b] of Object.entries(d.blocks)) {
+    if (b.label) out.push({ key: `block:${id}`, box: hitBox(b.label, berthWidth(shown(id)), MARK.berthHeight, k) })
+  }
+  return out
 }

@@ -64,10 +64,10 @@ export function unexpectedConsoleErrors(session: BrowserSession, expectedStatuse
   return session.consoleErrors.filter(e => !expectedStatuses.some(code => e.includes(`status of ${code}`)))
 }
 
-export async function screenshot(page: Page, name: string): Promise<string> {
+export async function screenshot(page: Page, name: string, fullPage = true): Promise<string> {
   mkdirSync(SCREENSHOT_DIR, { recursive: true })
   const path = join(SCREENSHOT_DIR, `${name}.png`)
-  await page.screenshot({ path, fullPage: true })
+  await page.screenshot({ path, fullPage })
   return path
 }
 

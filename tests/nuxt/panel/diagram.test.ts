@@ -4,7 +4,7 @@
 import { describe, expect, it } from 'vitest'
 import { mountSuspended } from '@nuxt/test-utils/runtime'
 import PanelDiagram from '~/components/panel/PanelDiagram.vue'
-import { ASPECT_CUE } from '#shared/live/diagram'
+import { ASPECT_CUE, turnoutLegs } from '#shared/live/diagram'
 import { DemoRun, spadRun } from '../../support/live-fixtures'
 
 function mountDiagram(run: DemoRun, extra: Record<string, unknown> = {}) {
@@ -77,9 +77,12 @@ describe('PanelDiagram', () => {
       props: { definition: run.layout, state, holders: run.areas, alarmSignals: [], alarmBlocks: [], dropoutSince: run.at - 1000 },
     })
     expect(w.find('[data-test="block-CP"]').attributes('data-occupied')).toBe('true')
-    expect(w.find('[data-test="block-CP"] .bb-track').classes()).toContain('is-occupied')
+    expect(w.find('[data-test="block-CP"] [data-test="occupied"]').classes()).toContain('bb-occupied')
     expect(w.find('[data-test="block-BR"]').attributes('data-occupied')).toBe('false')
-    expect(w.find('[data-test="block-BR"] .bb-track').classes()).not.toContain('is-occupied')
+    expect(w.find('[data-test="block-BR"] [data-test="occupied"]').exists()).toBe(false)
+    // the track line keeps a bar across each end, so block ends show whether free or occupied
+    expect(w.find('[data-test="block-BR"] .bb-track').exists()).toBe(true)
+    expect(w.find('marker#bb-end').exists()).toBe(true)
     expect(w.find('[data-test="block-BR"] [data-test="dropout"]').exists()).toBe(true)
     expect(w.find('[data-test="block-CP"] [data-test="dropout"]').exists()).toBe(false)
   })
@@ -93,13 +96,28 @@ describe('PanelDiagram', () => {
     expect(w.find('[data-test="berth-FY1"] [data-test="description"]').exists()).toBe(false)
   })
 
+  it('marks an occupied block with no description with "?" in its berth, edged like occupied track', async () => {
+    const run = new DemoRun()
+    run.occupy('UM1')
+    const w = await mountDiagram(run)
+    expect(w.find('[data-test="berth-UM1"] [data-test="undescribed"]').text()).toBe('?')
+    expect(w.find('[data-test="berth-UM1"] rect').classes()).toContain('is-occupied')
+    expect(w.find('[data-test="berth-UM1"]').attributes('aria-label')).toContain('occupied, no train description')
+    expect(w.find('[data-test="berth-UM2"] [data-test="undescribed"]').exists()).toBe(false)
+  })
+
   it('shows turnout positions and the lit junction indicator', async () => {
     const run = new DemoRun()
     run.event({ type: 'turnout', turnout: 'T1', position: 'reverse' })
     const w = await mountDiagram(run)
     expect(w.find('[data-test="turnout-T1"]').attributes('data-position')).toBe('reverse')
-    expect(w.find('[data-test="turnout-T1"]').text()).toContain('R')
-    expect(w.find('[data-test="turnout-T4"]').text()).toContain('N')
+    // the set leg is drawn from the point, the other leg is cut off short of it; no letter says it
+    const legsOf = (id: string) => turnoutLegs(run.layout, id)!
+    const end = (el: ReturnType<typeof w.find>) => [Number(el.attributes('x2')), Number(el.attributes('y2'))]
+    expect(end(w.find('[data-test="turnout-T1"] [data-test="set-leg"]'))).toEqual(legsOf('T1').reverse[1])
+    expect(w.findAll('[data-test="turnout-T1"] [data-test="cut-leg"]').map(end)).toEqual([legsOf('T1').normal[1]])
+    expect(end(w.find('[data-test="turnout-T4"] [data-test="set-leg"]'))).toEqual(legsOf('T4').normal[1])
+    expect(w.find('[data-test="turnout-T1"] [data-test="turnout-tag"]').text()).toBe('T1')
     // T1 reverse sets SD1's route to the branch (JD), its diverging leg: indicator position 1 lit
     expect(run.liveState().indications.SD1!.indicator).toBe('1')
     expect(w.find('[data-test="signal-SD1"] [data-test="junction-indicator"]').text()).toBe('1')
@@ -125,6 +143,22 @@ describe('PanelDiagram', () => {
     expect(w.emitted('signal')).toEqual([['SU1']])
     expect(w.emitted('turnout')).toEqual([['T2']])
     expect(w.emitted('berth')).toEqual([['UM2']])
+  })
+
+  it('counts a double tap on a mark once: the second click of it, and a repeat tap within half a second', async () => {
+    const run = new DemoRun()
+    const w = await mountDiagram(run)
+    const turnout = w.find('[data-test="turnout-T4"]')
+    await turnout.trigger('click', { detail: 1 })
+    await turnout.trigger('click', { detail: 2 })
+    await turnout.trigger('click', { detail: 1 })
+    expect(w.emitted('turnout')).toEqual([['T4']])
+    // another item straight after is a tap of its own
+    await w.find('[data-test="signal-SU1"]').trigger('click', { detail: 1 })
+    expect(w.emitted('signal')).toEqual([['SU1']])
+    await new Promise(resolve => setTimeout(resolve, 550))
+    await turnout.trigger('click', { detail: 1 })
+    expect(w.emitted('turnout')).toEqual([['T4'], ['T4']])
   })
 
   it('flashes only the ring of a held signal: its lamp and shape stay lit and readable', async () => {

@@ -60,7 +60,7 @@ describe('interpose dialog', () => {
     const w = await mountSuspended(PanelInterposeDialog, { props: { block: 'UM2' } })
     expect((w.find('[data-test="interpose-input"]').element as HTMLInputElement).value).toBe('1A40')
     expect(w.find('[data-test="interpose-submit"]').text()).toBe('Interpose')
-    expect(w.find('[data-test="clear-berth"]').classes()).not.toContain('bb-btn-primary')
+    expect(w.find('[data-test="clear-berth"]').classes()).not.toContain('btn-primary')
     await w.find('[data-test="clear-berth"]').trigger('click')
     await expect.poll(() => server!.commands().map(c => c.command)).toEqual([{ action: 'interpose', block: 'UM2', description: '' }])
   })

@@ -3,6 +3,7 @@ import { afterEach, describe, expect, it } from 'vitest'
 import { flushPromises } from '@vue/test-utils'
 import { mountSuspended } from '@nuxt/test-utils/runtime'
 import PanelScreen from '~/components/panel/PanelScreen.vue'
+import AppThemeButton from '~/components/app/AppThemeButton.vue'
 import { DEMO_RUN_START, DemoRun, MILO, SLUG, TAM, spadRun } from '../../support/live-fixtures'
 import type { TestLiveServer } from '../../support/live-server'
 import { goLive, signIn } from './helpers'
@@ -98,16 +99,18 @@ describe('Panel screen', () => {
     expect(w.find('[data-test="feed"]').text()).toContain('Tam Oakridge took Main line')
   })
 
-  it('switches to the light theme and remembers it', async () => {
-    signIn(TAM)
-    const ctx = await goLive()
-    server = ctx.server
-    const w = await mountSuspended(PanelScreen, { props: { slug: SLUG } })
+  it('switches the whole app to the light theme and remembers it; the button shows the theme in use and names the next', async () => {
+    const w = await mountSuspended(AppThemeButton)
     expect(document.documentElement.classList.contains('light')).toBe(false)
-    await w.find('[data-test="theme"]').trigger('click')
+    expect(w.find('[data-test="theme-now"]').text()).toBe('Dark')
+    expect(w.find('[data-test="theme-next"]').text()).toBe('Light')
+    expect(w.attributes('aria-label')).toBe('Theme: dark. Switch to light')
+    await w.trigger('click')
     expect(document.documentElement.classList.contains('light')).toBe(true)
     expect(localStorage.getItem('blockbell-theme')).toBe('light')
-    expect(w.find('[data-test="theme"]').attributes('aria-pressed')).toBe('true')
+    expect(w.find('[data-test="theme-now"]').text()).toBe('Light')
+    expect(w.find('[data-test="theme-next"]').text()).toBe('Dark')
+    expect(w.attributes('aria-label')).toBe('Theme: light. Switch to dark')
   })
 
   it('says when it is not live and keeps the last state on screen', async () => {

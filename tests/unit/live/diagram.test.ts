@@ -1,6 +1,6 @@
 // Drawing helpers checked against the demo layout's own drawing data (shared/layouts/demo-layout.json).
 import { describe, expect, it } from 'vitest'
-import { blockAreaIndex, contentBounds, markDistance, markScale, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
+import { blockAreaIndex, contentBounds, diagramMarks, markDistance, markScale, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagDirections, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
 import { demoLayout } from '../../support/live-fixtures'
 
 const def = demoLayout()
@@ -106,5 +106,31 @@ describe('the demo drawing at the fitted zoom of a tablet', () => {
     const sf2 = dirs.SF2!
     expect(def.diagram.signals.SF2!.at[1] + sf2[1] * 40).toBeLessThan(def.diagram.height - 16)
     for (const v of Object.values(dirs)) expect(Math.hypot(v[0], v[1])).toBeCloseTo(1, 1)
+  })
+})
+
+describe('tap areas on the demo drawing', () => {
+  // 0.57-0.61 screen px per drawing unit: the fitted zoom of the demo drawing at 1024x768 and 768x1024
+  // (measured in the browser test). Boxes that do not overlap give each item its own 44 x 44 px.
+  it.each([0.57, 0.59, 0.61])('gives every signal, turnout and berth a tap box no other item\'s box overlaps, at zoom %s', (scale) => {
+    const def = demoLayout()
+    const k = markScale(scale)
+    const labelDirs = signalLabelDirections(def)
+    const marks = diagramMarks(def, k, labelDirs, turnoutTagDirections(def, k, labelDirs), () => null)
+    const boxes = marks.flatMap(m => 'box' in m ? [{ key: m.key, ...m.box }] : [])
+    const overlaps: string[] = []
+    // each item has a box of 44 x 44 px or more (a signal's id adds a smaller one, round the text)
+    for (const key of new Set(boxes.map(b => b.key))) {
+      expect(Math.max(...boxes.filter(b => b.key === key).map(b => Math.min(b.width, b.height) * scale)), key).toBeGreaterThanOrEqual(44 - 1e-9)
+    }
+    for (const a of boxes) {
+      for (const b of boxes) {
+        if (a.key >= b.key) continue
+        const ox = Math.min(a.x + a.width, b.x + b.width) - Math.max(a.x, b.x)
+        const oy = Math.min(a.y + a.height, b.y + b.height) - Math.max(a.y, b.y)
+        if (ox > 0 && oy > 0) overlaps.push(`${a.key} and ${b.key}: ${(ox * scale).toFixed(0)} x ${(oy * scale).toFixed(0)} px`)
+      }
+    }
+    expect(overlaps).toEqual([])
   })
 })
