@@ -45,3 +45,17 @@ export const StockDescriptionBody = z.object({
 export const StockServiceBody = z.object({
   note: z.string().trim().max(2000, 'at most 2,000 characters').optional(),
 })
+
+export const TaskBody = z.object({
+  title: z.string({ error: 'say what is to be done' }).trim().min(1, 'say what is to be done').max(120, 'at most 120 characters'),
+  notes: z.string().trim().max(2000, 'at most 2,000 characters').optional(),
+  assigneeId: z.number({ error: 'a person, or null' }).int().positive().nullable().optional(),
+  /** 'YYYY-MM-DD' */
+  dueOn: z.iso.date('a date as YYYY-MM-DD').nullable().optional(),
+  repeatDays: z.number({ error: 'a number of days, or null' }).int('a whole number of days').min(1, 'at least 1 day').max(3650, 'at most 3,650 days').nullable().optional(),
+}).refine(t => t.dueOn || t.repeatDays, { message: 'give a due date, a repeat interval or both', path: ['dueOn'] })
+export type TaskInput = z.infer<typeof TaskBody>
+
+export const TaskDoneBody = z.object({
+  note: z.string().trim().max(2000, 'at most 2,000 characters').optional(),
+})

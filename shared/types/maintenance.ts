@@ -1,5 +1,6 @@
 import type { DueState } from '#shared/maintenance/due'
 import type { UploadedPhoto } from '#shared/types/uploads'
+import type { TaskState } from '#shared/maintenance/tasks'
 
 /** One block's use since its last cleaning and its due state, as the maintenance route returns it. */
 export interface BlockMaintenance {
@@ -37,3 +38,18 @@ export interface StockItem {
 }
 
 export interface StockService { id: number, at: string, by: string | null, note: string | null }
+
+/** A maintenance task other than track cleaning, with when it is next due. */
+export interface MaintenanceTask {
+  id: number
+  title: string
+  notes: string | null
+  assignee: { id: number, name: string } | null
+  dueOn: string | null
+  repeatDays: number | null
+  lastDoneAt: string | null
+  nextDue: string | null
+  state: TaskState
+}
+
+export interface TaskLogEntry { id: number, at: string, by: string | null, note: string | null }

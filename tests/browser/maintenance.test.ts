@@ -81,6 +81,24 @@ describe('Maintenance screen', () => {
       await page.setViewportSize({ width: 1280, height: 800 })
       await page.getByTestId('stock-roster').scrollIntoViewIfNeeded()
       await screenshot(page, 'roster-1280x800')
+
+      // a task due today shows as due, and the navigation counts it
+      const title = `Dust the station buildings ${Date.now() % 100000}`
+      await page.getByLabel('What is to be done').fill(title)
+      await page.getByLabel('Due on').fill(new Date().toISOString().slice(0, 10))
+      await page.getByTestId('task-add').click()
+      const task = page.locator('[data-test^="task-"][data-state]', { hasText: title }).first()
+      await expect.poll(() => task.getAttribute('data-state')).toBe('due')
+      await page.goto('/maintenance')
+      await expect.poll(() => page.getByTestId('due-count').textContent()).toMatch(/^\d+$/)
+      const counted = Number(await page.getByTestId('due-count').textContent())
+      expect(await page.getByTestId('due-count').getAttribute('aria-label')).toBe(`${counted} maintenance ${counted === 1 ? 'item' : 'items'} due`)
+      await page.getByTestId('tasks').scrollIntoViewIfNeeded()
+      await screenshot(page, 'tasks-1280x800')
+      await page.locator('[data-test^="task-"][data-state]', { hasText: title }).first().getByRole('button', { name: 'Done' }).click()
+      await expect.poll(() => page.locator('[data-test^="task-"][data-state]', { hasText: title }).first().getAttribute('data-state')).toBe('finished')
+      await page.goto('/maintenance')
+      await expect.poll(async () => (await page.getByTestId('due-count').count()) ? Number(await page.getByTestId('due-count').textContent()) : 0).toBe(counted - 1)
       expect(errors).toEqual([])
     } finally {
       await admin.close()

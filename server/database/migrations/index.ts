@@ -7,7 +7,7 @@ import * as layoutEditing from './0007-layout-editing'
 import * as trackCleaning from './0010-track-cleaning'
 import * as blockTallies from './0012-block-tallies'
 import * as uploads from './0013-uploads'
-import * as stockRoster from './0014-stock-roster'
+import * as stockTasksDigests from './0014-stock-tasks-digests'
 
 /**
  * Every migration, in order. Listed by hand (not globbed) so the same list works under tsx and inside the
@@ -23,5 +23,5 @@ export const migrations = [
   { name: '0010-track-cleaning', ...trackCleaning },
   { name: '0012-block-tallies', ...blockTallies },
   { name: '0013-uploads', ...uploads },
-  { name: '0014-stock-roster', ...stockRoster },
+  { name: '0014-stock-tasks-digests', ...stockTasksDigests },
 ]

@@ -3,6 +3,8 @@ import type { QueryInterface } from 'sequelize'
 /**
  * The stock roster: locomotives and other stock of a layout, the train descriptions each ran under (and when),
  * and their services. Running time and distance are not stored: they come from the journal's description entries.
+ * Other maintenance tasks (a due date or a repeat interval, an assignee) and what was done about them.
+ * The weeks whose reminder digest went out: the unique week key lets one server of several send it.
  */
 export async function up({ context: qi }: { context: QueryInterface }) {
   const q = (sql: string) => qi.sequelize.query(sql)
@@ -39,9 +41,40 @@ export async function up({ context: qi }: { context: QueryInterface }) {
       note text
     )`)
   await q('CREATE INDEX stock_services_item ON stock_services (stock_id, done_at)')
+  await q(`
+    CREATE TABLE maintenance_tasks (
+      id serial PRIMARY KEY,
+      layout_id integer NOT NULL REFERENCES layouts(id) ON DELETE CASCADE,
+      title varchar(120) NOT NULL,
+      notes text,
+      assignee_id integer REFERENCES users(id) ON DELETE SET NULL,
+      due_on date,
+      repeat_days integer CHECK (repeat_days > 0),
+      created_at timestamptz NOT NULL DEFAULT now(),
+      CHECK (due_on IS NOT NULL OR repeat_days IS NOT NULL)
+    )`)
+  await q('CREATE INDEX maintenance_tasks_layout ON maintenance_tasks (layout_id)')
+  await q(`
+    CREATE TABLE maintenance_task_log (
+      id serial PRIMARY KEY,
+      task_id integer NOT NULL REFERENCES maintenance_tasks(id) ON DELETE CASCADE,
+      done_at timestamptz NOT NULL,
+      done_by integer REFERENCES users(id) ON DELETE SET NULL,
+      note text
+    )`)
+  await q('CREATE INDEX maintenance_task_log_task ON maintenance_task_log (task_id, done_at)')
+  await q(`
+    CREATE TABLE sent_digests (
+      week_key varchar(10) PRIMARY KEY,
+      sent_at timestamptz NOT NULL DEFAULT now(),
+      messages integer NOT NULL DEFAULT 0
+    )`)
 }
 
 export async function down({ context: qi }: { context: QueryInterface }) {
+  await qi.sequelize.query('DROP TABLE sent_digests')
+  await qi.sequelize.query('DROP TABLE maintenance_task_log')
+  await qi.sequelize.query('DROP TABLE maintenance_tasks')
   await qi.sequelize.query('DROP TABLE stock_services')
   await qi.sequelize.query('DROP TABLE stock_runs')
   await qi.sequelize.query('DROP TABLE stock_items')
