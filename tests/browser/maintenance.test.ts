@@ -27,8 +27,8 @@ describe('Maintenance screen', () => {
     await screenshot(page, 'maintenance-1024x768')
     await page.getByTestId('record').click()
     await expect.poll(() => page.getByRole('status').first().textContent()).toContain('Cleaning of DM1, DM2 recorded.')
-    await expect.poll(() => page.getByTestId('block-DM1').getAttribute('data-state')).toBe('ok')
-    expect(await page.getByTestId('block-DM1').textContent()).not.toContain('never')
+    await expect.poll(() => page.getByTestId('maintenance-blocks').getByTestId('block-DM1').getAttribute('data-state')).toBe('ok')
+    expect(await page.getByTestId('maintenance-blocks').getByTestId('block-DM1').textContent()).not.toContain('never')
     await expect.poll(() => page.getByTestId('cleanings').textContent()).toContain('DM1, DM2')
     await screenshot(page, 'maintenance-recorded-1024x768')
     expect(consoleErrors).toEqual([])
@@ -39,7 +39,22 @@ describe('Maintenance screen', () => {
     await page.setViewportSize({ width: 1280, height: 800 })
     await page.goto('/maintenance')
     await expect.poll(() => page.getByTestId('maintenance-blocks').count()).toBe(1)
-    await page.getByLabel(/^Pick UM4 /).click()
+    // pick UM4 by tapping its track on the diagram, half-way along it
+    const diagram = page.getByTestId('maintenance-diagram')
+    await expect.poll(() => diagram.getByTestId('due-UM4').count()).toBe(1)
+    const mid = await diagram.getByTestId('block-UM4').locator('polyline.bb-track').evaluate((line: SVGPolylineElement) => {
+      const p = line.getPointAtLength(line.getTotalLength() / 2).matrixTransform(line.getScreenCTM()!)
+      return { x: p.x, y: p.y }
+    })
+    await page.mouse.click(mid.x, mid.y)
+    await expect.poll(() => page.getByTestId('picked').textContent()).toContain('UM4')
+    await expect.poll(() => diagram.getByTestId('due-UM4').getAttribute('data-picked')).toBe('true')
+    expect(await page.getByLabel(/^Pick UM4 /).isChecked()).toBe(true)
+    // the overlay shows each block's state as the list does
+    for (const block of ['UM1', 'FY1', 'DM1']) {
+      const listed = await page.getByTestId('maintenance-blocks').getByTestId(`block-${block}`).getAttribute('data-state')
+      expect(await diagram.getByTestId(`due-${block}`).getAttribute('data-state'), block).toBe(listed)
+    }
     const photo = await sharp({ create: { width: 900, height: 600, channels: 3, background: '#7d6b4f' } }).jpeg().toBuffer()
     await page.getByTestId('record-cleaning').getByTestId('photo-input').setInputFiles({ name: 'um4-after.jpg', mimeType: 'image/jpeg', buffer: photo })
     await expect.poll(() => page.getByTestId('photo-thumbnail').count()).toBe(1)
