@@ -13,7 +13,7 @@ export default defineNitroPlugin((nitroApp) => {
   try {
     new Cron(pattern, { ...options, paused: true }).stop()
   } catch (error) {
-    throw new Error(`BLOCKBELL_DIGEST_CRON / BLOCKBELL_DIGEST_TIMEZONE: ${(error as Error).message} (e.g. "0 8 * * 1" for Mondays 08:00, or "off")`)
+    throw new Error(`BLOCKBELL_DIGEST_CRON / BLOCKBELL_DIGEST_TIMEZONE: ${(error as Error).message} (e.g. "0 8 * * 1" for Mondays 08:00, or "off")`, { cause: error })
   }
   const job = new Cron(pattern, options, async () => {
     try {

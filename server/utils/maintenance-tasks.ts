@@ -5,8 +5,15 @@ import type { TaskInput } from '#shared/schemas/maintenance'
 import type { MaintenanceTask, TaskLogEntry } from '#shared/types/maintenance'
 
 interface TaskRow {
-  id: number, title: string, notes: string | null, assignee_id: number | null, assignee_name: string | null,
-  due_on: string | null, repeat_days: number | null, created_at: Date, last_done_at: Date | null
+  id: number
+  title: string
+  notes: string | null
+  assignee_id: number | null
+  assignee_name: string | null
+  due_on: string | null
+  repeat_days: number | null
+  created_at: Date
+  last_done_at: Date | null
 }
 
 const taskMissing = (id: number) => createError({ statusCode: 404, message: `id: no task with id ${id}` })

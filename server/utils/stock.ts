@@ -5,11 +5,18 @@ import type { StockInput } from '#shared/schemas/maintenance'
 import type { StockItem, StockService } from '#shared/types/maintenance'
 import { missingUploadIds, uploadedPhoto } from './upload-records'
 
-interface LayoutLengths { blocks?: { id: string, lengthMm?: number }[], scale?: { ratio?: number } }
+interface LayoutLengths { blocks?: { id: string, lengthMm?: number }[], scale?: { name?: string, ratio?: number } }
 
 interface ItemRow {
-  id: number, name: string, number: string | null, notes: string | null, photo: string | null,
-  service_hours: string | null, service_km: string | null, description: string | null, last_serviced_at: Date | null,
+  id: number
+  name: string
+  number: string | null
+  notes: string | null
+  photo: string | null
+  service_hours: string | null
+  service_km: string | null
+  description: string | null
+  last_serviced_at: Date | null
 }
 
 const NOT_FOUND = (id: number) => createError({ statusCode: 404, message: `id: no stock item with id ${id}` })

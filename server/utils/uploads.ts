@@ -40,7 +40,7 @@ export async function readUploadField(event: H3Event): Promise<{ bytes: Buffer, 
   const body = await readCappedBody(event)
   let form: FormData
   try {
-    form = await new Request('http://upload.invalid/', { method: 'POST', headers: { 'content-type': type }, body }).formData()
+    form = await new Request('http://upload.invalid/', { method: 'POST', headers: { 'content-type': type }, body: new Uint8Array(body) }).formData()
   } catch {
     throw refused('file: the form could not be read; send the photo as multipart/form-data in a field named "file"')
   }

@@ -2,7 +2,8 @@
 // Running arithmetic is checked against a scripted journal in tests/db/stock.test.ts.
 import { beforeAll, describe, expect, it } from 'vitest'
 import { setup } from '@nuxt/test-utils/e2e'
-import { BASE_URL, SessionClient, signedIn } from '../support/http-client'
+import type { SessionClient } from '../support/http-client'
+import { BASE_URL, signedIn } from '../support/http-client'
 
 await setup({ host: BASE_URL })
 

@@ -1,7 +1,8 @@
 // Maintenance tasks and the due count through the API of the built server (demo layout Wrenfold Junction).
 import { beforeAll, describe, expect, it } from 'vitest'
 import { setup } from '@nuxt/test-utils/e2e'
-import { BASE_URL, SessionClient, signedIn } from '../support/http-client'
+import type { SessionClient } from '../support/http-client'
+import { BASE_URL, signedIn } from '../support/http-client'
 
 await setup({ host: BASE_URL })
 

@@ -1,7 +1,6 @@
 // Photo uploads through the built server: images recognised by their content (file-type), thumbnails made with
 // sharp, kept in the uploads storage (a folder of this test run), served back as what they are.
 import { existsSync, readdirSync } from 'node:fs'
-import { join } from 'node:path'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { setup } from '@nuxt/test-utils/e2e'
 import sharp from 'sharp'
@@ -14,9 +13,9 @@ const stored = () => existsSync(UPLOADS_DIR) ? readdirSync(UPLOADS_DIR).length :
 
 async function upload(client: SessionClient, bytes: Buffer, name: string, type: string) {
   const form = new FormData()
-  form.append('file', new Blob([bytes], { type }), name)
+  form.append('file', new Blob([new Uint8Array(bytes)], { type }), name)
   const response = await fetch(`${BASE_URL}/api/uploads`, { method: 'POST', body: form, headers: { cookie: client.cookieHeader, accept: 'application/json' } })
-  return { status: response.status, body: await response.json() as Record<string, any> }
+  return { status: response.status, body: await response.json() as { id: string, url: string, thumbnailUrl: string, message?: string } }
 }
 
 async function download(client: SessionClient, path: string) {
