@@ -51,8 +51,7 @@ export function useAlarmSound(active: Ref<boolean>) {
     if (on && !timer) {
       beep()
       timer = setInterval(beep, REPEAT_MS)
-    }
-    else if (!on && timer) {
+    } else if (!on && timer) {
       clearInterval(timer)
       timer = null
     }

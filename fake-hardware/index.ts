@@ -106,7 +106,7 @@ function scripted(o: FakeOptions, layout: Layout, send: Send, log: Log, shutdown
   log(`script ${o.script}: ${events.length} events over ${((events.at(-1)?.dueMs ?? 0) / 1000).toFixed(1)} s`)
   for (const t of unknown) log(`warning: ${t} names an id the layout does not have`)
   const player = new ScriptPlayer(events)
-  const turnouts = new Set(layout.turnouts.map((t) => t.id))
+  const turnouts = new Set(layout.turnouts.map(t => t.id))
   let timer: NodeJS.Timeout | undefined
   let t0 = 0
   const pump = () => {
@@ -119,8 +119,7 @@ function scripted(o: FakeOptions, layout: Layout, send: Send, log: Log, shutdown
     if (next === null) {
       log('script done')
       shutdown(0)
-    }
-    else timer = setTimeout(pump, Math.max(0, next - (performance.now() - t0)))
+    } else timer = setTimeout(pump, Math.max(0, next - (performance.now() - t0)))
   }
   return {
     begin() {
@@ -158,7 +157,7 @@ function main(): void {
   }
   const o = parsed.options
   const t0 = performance.now()
-  const log: Log = (text) => console.log(`[fake-layout ${((performance.now() - t0) / 1000).toFixed(2).padStart(8)} s] ${text}`)
+  const log: Log = text => console.log(`[fake-layout ${((performance.now() - t0) / 1000).toFixed(2).padStart(8)} s] ${text}`)
   const prefix = layoutPrefix(o.slug)
   const statusTopic = layoutTopic(o.slug, relative.deviceStatus(DEVICE))
 
@@ -193,8 +192,7 @@ function main(): void {
     const layout = loadLayout(o.layout)
     log(`layout "${layout.name}" (${o.layout}): ${layout.blocks.length} blocks, ${layout.turnouts.length} turnouts, ${layout.signals.length} signals; topics ${prefix}#`)
     mode = o.script ? scripted(o, layout, send, log, shutdown) : simulated(o, layout, send, log)
-  }
-  catch (e) {
+  } catch (e) {
     console.error(`fake layout: ${(e as Error).message}`)
     process.exit(2)
   }
@@ -207,8 +205,7 @@ function main(): void {
       connected = true
       log(`connected to ${o.mqttUrl} as ${o.username}; ${DEVICE} online`)
       mode!.begin()
-    }
-    else {
+    } else {
       log('reconnected; reporting turnouts and detectors again')
       mode!.resend()
     }

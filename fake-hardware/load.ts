@@ -15,21 +15,19 @@ function readJson(path: string, what: string): unknown {
   let text: string
   try {
     text = readFileSync(path, 'utf8')
-  }
-  catch (e) {
-    throw new Error(`cannot read the ${what} ${path}: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`)
+  } catch (e) {
+    throw new Error(`cannot read the ${what} ${path}: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`, { cause: e })
   }
   try {
     return JSON.parse(text)
-  }
-  catch (e) {
-    throw new Error(`the ${what} ${path} is not JSON: ${(e as Error).message}`)
+  } catch (e) {
+    throw new Error(`the ${what} ${path} is not JSON: ${(e as Error).message}`, { cause: e })
   }
 }
 
 export function loadLayout(path: string): Layout {
   const r = validateLayout(readJson(path, 'layout'))
-  if (!r.ok) throw new Error(`the layout ${path} is not valid:\n${r.errors.map((e) => `  ${e.path}: ${e.message}`).join('\n')}`)
+  if (!r.ok) throw new Error(`the layout ${path} is not valid:\n${r.errors.map(e => `  ${e.path}: ${e.message}`).join('\n')}`)
   return r.layout
 }
 
@@ -52,9 +50,9 @@ export function loadPlans(layout: Layout, file: string | null, slug: string, cou
     return { plans, source: `${plans.length} trains picked on the layout's round trips` }
   }
   const parsed = TrainPlanFile.safeParse(readJson(path, 'train plan file'))
-  if (!parsed.success) throw new Error(`the train plan file ${path} is not valid:\n${parsed.error.issues.map((i) => `  ${i.path.join('.')}: ${i.message}`).join('\n')}`)
+  if (!parsed.success) throw new Error(`the train plan file ${path} is not valid:\n${parsed.error.issues.map(i => `  ${i.path.join('.')}: ${i.message}`).join('\n')}`)
   const errors = checkPlans(layout, parsed.data.trains)
-  if (errors.length) throw new Error(`the train plans in ${path} do not fit the layout:\n${errors.map((e) => `  ${e.path}: ${e.message}`).join('\n')}`)
+  if (errors.length) throw new Error(`the train plans in ${path} do not fit the layout:\n${errors.map(e => `  ${e.path}: ${e.message}`).join('\n')}`)
   return { plans: parsed.data.trains, source: path }
 }
 
@@ -66,6 +64,6 @@ export interface LoadedScript {
 
 export function loadScript(layout: Layout, path: string, speedFactor: number): LoadedScript {
   const r = parseScript(readJson(path, 'script'), speedFactor)
-  if (!r.ok) throw new Error(`the script ${path} is not valid:\n${r.errors.map((e) => `  ${e}`).join('\n')}`)
+  if (!r.ok) throw new Error(`the script ${path} is not valid:\n${r.errors.map(e => `  ${e}`).join('\n')}`)
   return { events: r.events, unknown: unknownIds(layout, r.events) }
 }

@@ -7,8 +7,7 @@ const ASPECTS: readonly string[] = ['danger', 'caution', 'preliminary-caution', 
 function json(payload: string): unknown {
   try {
     return JSON.parse(payload)
-  }
-  catch {
+  } catch {
     return undefined
   }
 }

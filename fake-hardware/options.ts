@@ -67,8 +67,7 @@ export function parseOptions(argv: readonly string[], env: Readonly<Record<strin
       strict: true,
       allowPositionals: false,
     }).values
-  }
-  catch (e) {
+  } catch (e) {
     return { ok: false, help: false, errors: [(e as Error).message] }
   }
   if (values.help) return { ok: false, help: true, errors: [] }
@@ -91,20 +90,20 @@ export function parseOptions(argv: readonly string[], env: Readonly<Record<strin
   const slug = str('slug', 'BLOCKBELL_FAKE_SLUG') ?? 'wrenfold'
   if (!SLUG.test(slug)) errors.push(`--slug: "${slug}" is not a layout slug (lower-case letters, digits and "-")`)
   const seedText = str('seed', 'BLOCKBELL_FAKE_SEED')
-  const seed = seedText === undefined ? null : num('seed', 'BLOCKBELL_FAKE_SEED', 0, (n) => Number.isInteger(n) && n >= 0 && n < 2 ** 32, 'a whole number from 0 to 4294967295')
+  const seed = seedText === undefined ? null : num('seed', 'BLOCKBELL_FAKE_SEED', 0, n => Number.isInteger(n) && n >= 0 && n < 2 ** 32, 'a whole number from 0 to 4294967295')
   const port = env.MQTT_PORT || '18830'
   const options: FakeOptions = {
     layout: str('layout', 'BLOCKBELL_FAKE_LAYOUT') ?? 'shared/layouts/demo-layout.json',
     slug,
     seed,
     trains: str('trains', 'BLOCKBELL_FAKE_TRAINS') ?? null,
-    trainCount: num('train-count', undefined, 4, (n) => Number.isInteger(n) && n >= 1 && n <= 12, 'a whole number from 1 to 12'),
+    trainCount: num('train-count', undefined, 4, n => Number.isInteger(n) && n >= 1 && n <= 12, 'a whole number from 1 to 12'),
     script: str('script', 'BLOCKBELL_FAKE_SCRIPT') ?? null,
-    spadChance: num('spad-chance', 'BLOCKBELL_FAKE_SPAD_CHANCE', 0.02, (n) => n >= 0 && n <= 1, 'a chance from 0 to 1'),
-    dropoutChance: num('dropout-chance', 'BLOCKBELL_FAKE_DROPOUT_CHANCE', 0.05, (n) => n >= 0 && n <= 1, 'a chance from 0 to 1'),
-    speedFactor: num('speed-factor', 'BLOCKBELL_FAKE_SPEED_FACTOR', 1, (n) => n > 0 && n <= 100, 'a number above 0, at most 100'),
+    spadChance: num('spad-chance', 'BLOCKBELL_FAKE_SPAD_CHANCE', 0.02, n => n >= 0 && n <= 1, 'a chance from 0 to 1'),
+    dropoutChance: num('dropout-chance', 'BLOCKBELL_FAKE_DROPOUT_CHANCE', 0.05, n => n >= 0 && n <= 1, 'a chance from 0 to 1'),
+    speedFactor: num('speed-factor', 'BLOCKBELL_FAKE_SPEED_FACTOR', 1, n => n > 0 && n <= 100, 'a number above 0, at most 100'),
     ignoreSignals: values['ignore-signals'] === true,
-    stopAfterMs: str('stop-after') === undefined ? null : num('stop-after', undefined, 0, (n) => n > 0, 'a positive number of ms'),
+    stopAfterMs: str('stop-after') === undefined ? null : num('stop-after', undefined, 0, n => n > 0, 'a positive number of ms'),
     mqttUrl: env.MQTT_URL || `mqtt://127.0.0.1:${port}`,
     username: env.BLOCKBELL_FAKE_MQTT_USERNAME || 'fake-layout',
     password: env.BLOCKBELL_FAKE_MQTT_PASSWORD || 'fake-layout-demo',

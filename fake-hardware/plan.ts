@@ -55,7 +55,7 @@ export function checkPlans(layout: Layout, plans: readonly TrainPlan[]): PlanErr
   const topo = topologyOf(layout)
   const errors: PlanError[] = []
   const err = (path: string, message: string) => errors.push({ path, message })
-  const links = new Set(layout.links.map((l) => `${l.from}>${l.to}`))
+  const links = new Set(layout.links.map(l => `${l.from}>${l.to}`))
   const headcodes = new Set<string>()
   const starts = new Map<string, string>()
   plans.forEach((p, t) => {
@@ -64,7 +64,7 @@ export function checkPlans(layout: Layout, plans: readonly TrainPlan[]): PlanErr
     headcodes.add(p.headcode)
     const steps = p.route
     const len = (i: number) => topo.blockById.get(at(steps, i).block)?.lengthMm ?? 0
-    const unknown = steps.findIndex((s) => !topo.blockById.has(s.block))
+    const unknown = steps.findIndex(s => !topo.blockById.has(s.block))
     if (unknown >= 0) {
       err(`${base}.route[${unknown}]`, `unknown block "${steps[unknown]!.block}"`)
       return
@@ -89,8 +89,7 @@ export function checkPlans(layout: Layout, plans: readonly TrainPlan[]): PlanErr
       const prev = at(steps, i - 1).block
       if (next.block === prev) {
         if (p.lengthMm > len(i)) err(path, `the train (${p.lengthMm} mm) must fit in ${s.block} (${len(i)} mm) to reverse there`)
-      }
-      else if (!onward(topo, s.block, prev).includes(next.block)) {
+      } else if (!onward(topo, s.block, prev).includes(next.block)) {
         err(path, `a train cannot run ${prev} -> ${s.block} -> ${next.block}`)
       }
     })
@@ -152,7 +151,7 @@ function headcode(rng: Random, taken: Set<string>): string {
 export function autoPlans(layout: Layout, count: number, rng: Random): TrainPlan[] {
   const cycles = findCycles(layout).sort((a, b) => b.length - a.length)
   if (cycles.length === 0) return []
-  const lengthOf = new Map(layout.blocks.map((b) => [b.id, b.lengthMm]))
+  const lengthOf = new Map(layout.blocks.map(b => [b.id, b.lengthMm]))
   const used = new Set<string>()
   const perCycle = new Map<number, number>()
   const headcodes = new Set<string>()
@@ -161,10 +160,10 @@ export function autoPlans(layout: Layout, count: number, rng: Random): TrainPlan
     const c = attempt % cycles.length
     const cycle = cycles[c]!
     if ((perCycle.get(c) ?? 0) >= Math.floor(cycle.length / 3)) continue
-    const shortest = Math.min(...cycle.map((b) => lengthOf.get(b)!))
+    const shortest = Math.min(...cycle.map(b => lengthOf.get(b)!))
     const lengthMm = Math.round(Math.min(600, shortest * 0.6))
     const offset = rng.int(cycle.length)
-    const startAt = [...cycle.keys()].map((k) => (k + offset) % cycle.length).find((k) => !used.has(cycle[k]!))
+    const startAt = [...cycle.keys()].map(k => (k + offset) % cycle.length).find(k => !used.has(cycle[k]!))
     if (startAt === undefined) continue
     const blocks = [...cycle.slice(startAt), ...cycle.slice(0, startAt)]
     used.add(blocks[0]!)

@@ -26,9 +26,9 @@ export function createRandom(seed: number): Random {
   }
   return {
     next,
-    chance: (p) => p > 0 && next() < p,
+    chance: p => p > 0 && next() < p,
     between: (min, max) => min + (max - min) * next(),
-    int: (n) => Math.floor(next() * n),
-    pick: (items) => items[Math.floor(next() * items.length)]!,
+    int: n => Math.floor(next() * n),
+    pick: items => items[Math.floor(next() * items.length)]!,
   }
 }

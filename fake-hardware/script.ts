@@ -19,9 +19,9 @@ const RelativeTopic = z
   .string()
   .min(1)
   .max(200)
-  .refine((t) => !t.startsWith('/') && !t.endsWith('/') && !t.includes('//'), 'a topic has no empty levels')
-  .refine((t) => !/[+#\0]/.test(t), 'a topic has no wildcards (+, #)')
-  .refine((t) => !t.startsWith(`${TOPIC_ROOT}/`), 'write the topic relative to blockbell/v1/<layout>/, e.g. detector/D01')
+  .refine(t => !t.startsWith('/') && !t.endsWith('/') && !t.includes('//'), 'a topic has no empty levels')
+  .refine(t => !/[+#\0]/.test(t), 'a topic has no wildcards (+, #)')
+  .refine(t => !t.startsWith(`${TOPIC_ROOT}/`), 'write the topic relative to blockbell/v1/<layout>/, e.g. detector/D01')
 
 export const ScriptEvent = z.object({
   afterMs: z.number().nonnegative().max(24 * 3600_000),
@@ -55,14 +55,13 @@ export interface Scheduled {
 
 export type ParseResult = { ok: true, events: Scheduled[] } | { ok: false, errors: string[] }
 
-
 /** Validates a parsed JSON script and turns it into the publishes to make, in order. */
 export function parseScript(json: unknown, speedFactor = 1): ParseResult {
   const r = Script.safeParse(json)
-  if (!r.success) return { ok: false, errors: r.error.issues.map((i) => `${i.path.length ? i.path.join('.') : '(script)'}: ${i.message}`) }
+  if (!r.success) return { ok: false, errors: r.error.issues.map(i => `${i.path.length ? i.path.join('.') : '(script)'}: ${i.message}`) }
   return {
     ok: true,
-    events: r.data.map((e) => ({
+    events: r.data.map(e => ({
       dueMs: e.afterMs / speedFactor,
       topic: e.topic,
       payload: typeof e.payload === 'string' ? e.payload : JSON.stringify(e.payload),
@@ -75,9 +74,9 @@ export function parseScript(json: unknown, speedFactor = 1): ParseResult {
 /** Topics of the script naming a detector, turnout or signal the layout does not have. */
 export function unknownIds(layout: Layout, events: readonly Scheduled[]): string[] {
   const known: Record<string, Set<string>> = {
-    detector: new Set(layout.blocks.flatMap((b) => b.detectors)),
-    turnout: new Set(layout.turnouts.map((t) => t.id)),
-    signal: new Set(layout.signals.map((s) => s.id)),
+    detector: new Set(layout.blocks.flatMap(b => b.detectors)),
+    turnout: new Set(layout.turnouts.map(t => t.id)),
+    signal: new Set(layout.signals.map(s => s.id)),
   }
   const bad = new Set<string>()
   for (const e of events) {

@@ -162,7 +162,7 @@ export class Simulation {
 
   /** Every train, in plan order. */
   view(): TrainView[] {
-    return this.trains.map((t) => ({
+    return this.trains.map(t => ({
       headcode: t.plan.headcode,
       step: t.index % t.steps.length,
       blocks: [...t.blocks],
@@ -387,7 +387,7 @@ export class Simulation {
     const after = this.stepAt(t, t.index + 2)
     const leaving = needsThrough(this.topo, here.block, here.lift ? null : this.stepAt(t, t.index - 1).block, next.block)
     return [
-      ...leaving.filter((n) => n.facing),
+      ...leaving.filter(n => n.facing),
       ...needsThrough(this.topo, next.block, here.block, after.lift ? null : after.block),
     ]
   }
@@ -461,7 +461,7 @@ export class Simulation {
         if (shown !== undefined && shown !== 'danger') return shown
         if (this.overrides.get(id) === 'hold') return 'danger'
         const trace = traceSection(this.topo, this.topo.signalById.get(id)!, position)
-        return trace.routeSet && !trace.blocks.some((b) => this.owner.has(b)) ? 'proceed' : 'danger'
+        return trace.routeSet && !trace.blocks.some(b => this.owner.has(b)) ? 'proceed' : 'danger'
       },
     })
   }
@@ -493,8 +493,8 @@ export class Simulation {
   private occupy(t: Train, out: Output): void {
     const { blocks, rear } = this.footprint(t)
     t.rearIndex = rear
-    const entered = blocks.filter((b) => !t.blocks.includes(b))
-    const left = t.blocks.filter((b) => !blocks.includes(b))
+    const entered = blocks.filter(b => !t.blocks.includes(b))
+    const left = t.blocks.filter(b => !blocks.includes(b))
     t.blocks = blocks
     for (const b of entered) {
       this.owner.set(b, t)
@@ -521,7 +521,7 @@ export class Simulation {
 
   private detectorNote(block: string, payload: string): string {
     const ds = this.topo.blockById.get(block)!.detectors
-    return ds.length ? ` (${ds.map((d) => `${d}=${payload}`).join(', ')})` : ' (no detector)'
+    return ds.length ? ` (${ds.map(d => `${d}=${payload}`).join(', ')})` : ' (no detector)'
   }
 
   private report(block: string, payload: string, out: Output): void {
@@ -548,8 +548,7 @@ export class Simulation {
           d.restoreAt = this.now + this.rng.between(30, 90)
           keep.push(d)
         }
-      }
-      else if (this.now < d.restoreAt) keep.push(d)
+      } else if (this.now < d.restoreAt) keep.push(d)
       else if (still) {
         out.publish(this.now, relative.detector(d.detector), '1')
         out.say(this.now, `dirty track: ${d.detector}=1 again`)

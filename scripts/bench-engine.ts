@@ -11,9 +11,9 @@ const PASSING_LOOP_EVERY = 50
 function generate(total: number): Layout {
   const loops = Math.floor(total / (2 * PASSING_LOOP_EVERY + 3))
   const perLine = Math.floor((total - 3 * loops) / 2)
-  const blocks: { id: string; name: string; lengthMm: number; detectors: string[] }[] = []
-  const links: { from: string; to: string }[] = []
-  const turnouts: { id: string; block: string; normal: string; reverse: string }[] = []
+  const blocks: { id: string, name: string, lengthMm: number, detectors: string[] }[] = []
+  const links: { from: string, to: string }[] = []
+  const turnouts: { id: string, block: string, normal: string, reverse: string }[] = []
   const signals: Record<string, unknown>[] = []
   const add = (id: string) => blocks.push({ id, name: id, lengthMm: 900 + ((blocks.length * 37) % 1500), detectors: [`d${id}`] })
   for (const line of ['U', 'D']) {
@@ -36,7 +36,7 @@ function generate(total: number): Layout {
     turnouts.push({ id: `TT${k}`, block: `U${b}`, normal: `U${b - 1}`, reverse: ids[2]! })
     signals.push({ id: `SP${k}a`, name: 'loop', kind: 'three-aspect', from: ids[0], protects: ids[1] })
     signals.push({ id: `SP${k}c`, name: 'loop exit', kind: 'three-aspect', from: ids[2], protects: `U${b}` })
-    const junction = signals.find((s) => s.protects === `U${a}`)!
+    const junction = signals.find(s => s.protects === `U${a}`)!
     junction.indicators = { [ids[0]!]: '1' }
   }
   const r = validateLayout({ schema: 1, name: `bench ${total}`, scale: { name: 'OO', ratio: 76.2 }, blocks, links, turnouts, signals })
@@ -48,13 +48,13 @@ function generate(total: number): Layout {
  * Setup events (all turnouts normal, trains placed and described) and a long run of train movements.
  * `trains`: how many trains, spread evenly over both lines; null for one train every 10 blocks.
  */
-function script(layout: Layout, moves: number, trainCount: number | null): { setup: LayoutEvent[]; run: LayoutEvent[]; trains: number } {
+function script(layout: Layout, moves: number, trainCount: number | null): { setup: LayoutEvent[], run: LayoutEvent[], trains: number } {
   let at = 1_700_000_000_000
-  const setup: LayoutEvent[] = layout.turnouts.map((t) => ({ type: 'turnout', turnout: t.id, position: 'normal', at: (at += 10) }))
-  const perLine = layout.blocks.filter((b) => b.id.startsWith('U')).length
+  const setup: LayoutEvent[] = layout.turnouts.map(t => ({ type: 'turnout', turnout: t.id, position: 'normal', at: (at += 10) }))
+  const perLine = layout.blocks.filter(b => b.id.startsWith('U')).length
   const perLineTrains = trainCount === null ? Math.floor(perLine / 10) : trainCount / 2
   const spacing = Math.floor(perLine / perLineTrains)
-  const trains: { line: string; head: number }[] = []
+  const trains: { line: string, head: number }[] = []
   for (const line of ['U', 'D']) {
     for (let k = 0; k < perLineTrains; k++) trains.push({ line, head: 1 + k * spacing })
   }
@@ -140,7 +140,7 @@ for (const size of [500, 5_000, 50_000]) {
     ])
   }
 }
-const widths = rows[0]!.map((_, i) => Math.max(...rows.map((r) => r[i]!.length)))
+const widths = rows[0]!.map((_, i) => Math.max(...rows.map(r => r[i]!.length)))
 for (const r of rows) console.log(r.map((c, i) => c.padStart(widths[i]!)).join('  '))
 console.log()
 console.log('setup ms: createEngine (per-layout lookups and all indications), once per layout.')

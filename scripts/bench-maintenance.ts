@@ -4,7 +4,6 @@
 // per-block counters two ways: read from the running tallies (what GET /maintenance does) and counted from the
 // journal itself (the reference, and what the route did before the tallies); then the cost the tally trigger
 // adds to journal batches of 200 rows.
-import { QueryTypes } from 'sequelize'
 import { insertJournalRecords } from '../server/live/journal-insert'
 import { blockUse, blockUseFromJournal } from '../server/utils/maintenance'
 import { startThrowawayPostgres } from '../tests/support/postgres'
@@ -69,8 +68,7 @@ try {
   console.log(`journal batch of 200 rows, 100 batches: with the tally trigger p50 ${ms(withTrigger.p50)} ms / p95 ${ms(withTrigger.p95)} ms; without p50 ${ms(withoutTrigger.p50)} ms / p95 ${ms(withoutTrigger.p95)} ms`)
   const cleaning = await timed(10, () => db.sequelize.query(`SELECT block_tally_recount(:layoutId, ARRAY['B1', 'B2']::text[])`, { replacements: { layoutId: layout.id } }))
   console.log(`recount of two blocks since their last cleaning (as recording a cleaning does, here with 45 days of moves since): p50 ${ms(cleaning.p50)} ms`)
-}
-finally {
+} finally {
   await db.sequelize.close()
   await pg.destroy()
 }

@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# Installs what the tests need and runs every test: `npm test`.
+# Installs what the tests need, type-checks and lints the tree, and runs every test: `npm test`.
 # Starts its own PostgreSQL (a throwaway cluster) and the built server, and tears both down at the end.
 # Ends with one summary line: "Blockbell tests: N passed, M failed".
 set -uo pipefail
@@ -30,6 +30,15 @@ cleanup() {
 }
 trap cleanup EXIT
 trap 'exit 130' INT TERM
+
+# Type check and lint first: a tree that does not pass them is red before any test runs.
+# BLOCKBELL_TEST_SKIP_CHECKS=1 leaves them out of a targeted run.
+if [ "${BLOCKBELL_TEST_SKIP_CHECKS:-0}" != 1 ]; then
+  log "Type check (nuxt typecheck)..."
+  ./node_modules/.bin/nuxt typecheck > "$RUN_DIR/typecheck.log" 2>&1 || { grep -E 'error TS' "$RUN_DIR/typecheck.log" | head -40; tail -5 "$RUN_DIR/typecheck.log"; die "type check failed (npm run typecheck)"; }
+  log "Lint (eslint)..."
+  ./node_modules/.bin/eslint . > "$RUN_DIR/lint.log" 2>&1 || { tail -60 "$RUN_DIR/lint.log"; die "lint failed (npm run lint; npm run lint:fix fixes most)"; }
+fi
 
 port_free "$DB_PORT" || die "Port $DB_PORT is taken; set BLOCKBELL_TEST_DB_PORT to a free port."
 port_free "$WEB_PORT" || die "Port $WEB_PORT is taken; set BLOCKBELL_TEST_PORT to a free port."

@@ -46,6 +46,7 @@ export function journalTimeProblem(at: unknown): string | null {
 }
 
 // PostgreSQL text and jsonb cannot hold the character U+0000; it becomes U+FFFD rather than cost the entry.
+// eslint-disable-next-line no-control-regex -- U+0000 is exactly what is looked for
 const NUL = /\u0000/g
 const NUL_ESCAPE = /(?<!\\)((?:\\\\)*)\\u0000/g // \u0000 in JSON text, not preceded by an escaped backslash
 

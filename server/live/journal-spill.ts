@@ -17,7 +17,12 @@ function journalSpillFileName(bootId: string): string {
 const openFiles = new Set<string>()
 
 function processAlive(pid: number): boolean {
-  try { process.kill(pid, 0); return true } catch (error) { return (error as NodeJS.ErrnoException).code === 'EPERM' }
+  try {
+    process.kill(pid, 0)
+    return true
+  } catch (error) {
+    return (error as NodeJS.ErrnoException).code === 'EPERM'
+  }
 }
 
 export interface JournalSpillRead {
@@ -114,7 +119,12 @@ export async function removeJournalSpill(path: string): Promise<void> {
 /** Appends one entry and waits for the disk: only for the rare entry that arrives after close(). */
 export function appendToJournalSpillNow(path: string, entry: JournalRecord): void {
   const fd = openSync(path, 'a')
-  try { writeSync(fd, toJournalSpillLine(entry)); fsyncSync(fd) } finally { closeSync(fd) }
+  try {
+    writeSync(fd, toJournalSpillLine(entry))
+    fsyncSync(fd)
+  } finally {
+    closeSync(fd)
+  }
 }
 
 /**

@@ -4,7 +4,7 @@ import { initialState, type Alarm, type LayoutState, type OverrideMode, type Tur
 import type { AreaHolders, LiveUser } from '#shared/live/protocol'
 import type { Database } from '../database/connection'
 
-interface LatestRow { type: string, subject: string, payload: Record<string, any>, at: Date, user_id: number | null }
+interface LatestRow { type: string, subject: string, payload: Record<string, unknown>, at: Date, user_id: number | null }
 
 const RESTORED_ALARMS = 100
 
@@ -65,7 +65,8 @@ async function restoreAreas(db: Database, layout: Layout, rows: LatestRow[]): Pr
   for (const row of rows) {
     const action = row.payload.action
     // a hand-over is an offer (the giver keeps the area until the receiver accepts); older entries moved it at once
-    const holderId = action === 'take-area' || action === 'accept-hand-over' ? row.user_id
+    const holderId = action === 'take-area' || action === 'accept-hand-over'
+      ? row.user_id
       : action === 'hand-over' ? (row.payload.offer ? row.user_id : Number(row.payload.to)) : null
     if (!holderId) continue
     const user = await db.models.User.findByPk(holderId)

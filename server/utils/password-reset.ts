@@ -29,7 +29,6 @@ export async function requestPasswordReset(event: H3Event, { email }: ForgotPass
   })
 }
 
-
 /** Sets the new password with a one-time link, uses up every open link of the account, and sends a notice. */
 export async function resetPassword({ token, password }: ResetPasswordBody): Promise<void> {
   const { sequelize, models } = useDatabase()

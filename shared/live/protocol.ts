@@ -87,18 +87,18 @@ export interface LiveSession {
 export interface FeedEntry { at: number, text: string, tone: 'info' | 'warn' | 'alarm' }
 
 /** Changes the live runtime adds to the engine's own. */
-export type LiveChange =
-  | Change
-  | { type: 'areas', areas: AreaHolders }
-  | { type: 'unattended', areas: UnattendedAreas }
-  | { type: 'offers', offers: HandOverOffers }
-  | { type: 'operators', operators: LiveUser[] }
-  | { type: 'device', device: string, status: DeviceStatus }
-  | { type: 'dropout', block: string, detector: string, at: number }
-  | { type: 'feed', entry: FeedEntry }
-  | { type: 'session', session: LiveSession | null }
+export type LiveChange
+  = | Change
+    | { type: 'areas', areas: AreaHolders }
+    | { type: 'unattended', areas: UnattendedAreas }
+    | { type: 'offers', offers: HandOverOffers }
+    | { type: 'operators', operators: LiveUser[] }
+    | { type: 'device', device: string, status: DeviceStatus }
+    | { type: 'dropout', block: string, detector: string, at: number }
+    | { type: 'feed', entry: FeedEntry }
+    | { type: 'session', session: LiveSession | null }
   /** A turnout's lock came on, changed or came off (null). */
-  | { type: 'lock', turnout: string, lock: TurnoutLockInfo | null }
+    | { type: 'lock', turnout: string, lock: TurnoutLockInfo | null }
 
 export interface LiveState {
   occupied: Record<string, boolean>
@@ -115,22 +115,28 @@ export interface LiveState {
   locks: Record<string, TurnoutLockInfo>
 }
 
-export type ServerMessage =
-  | { type: 'welcome', user: LiveUser }
-  | {
-    type: 'snapshot', layout: string, seq: number, definition: Layout, state: LiveState,
-    areas: AreaHolders, operators: LiveUser[], devices: Record<string, DeviceStatus>,
-    session: LiveSession | null,
-    unattended?: UnattendedAreas,
-    offers?: HandOverOffers,
-    /** The latest feed entries, oldest first (newest last), as a panel keeps them. */
-    feed: FeedEntry[],
-    /** The server's clock (epoch ms) when the snapshot was made: panels work the fast clock out from it. */
-    serverTime: number
-  }
-  | { type: 'delta', layout: string, seq: number, changes: LiveChange[] }
-  | { type: 'command-result', id: string, ok: true, note?: string }
-  | { type: 'command-result', id: string, ok: false, reason: string }
-  | { type: 'error', message: string }
-  | { type: 'pong' }
-  | { type: 'heartbeat', at: number }
+export type ServerMessage
+  = | { type: 'welcome', user: LiveUser }
+    | {
+      type: 'snapshot'
+      layout: string
+      seq: number
+      definition: Layout
+      state: LiveState
+      areas: AreaHolders
+      operators: LiveUser[]
+      devices: Record<string, DeviceStatus>
+      session: LiveSession | null
+      unattended?: UnattendedAreas
+      offers?: HandOverOffers
+      /** The latest feed entries, oldest first (newest last), as a panel keeps them. */
+      feed: FeedEntry[]
+      /** The server's clock (epoch ms) when the snapshot was made: panels work the fast clock out from it. */
+      serverTime: number
+    }
+    | { type: 'delta', layout: string, seq: number, changes: LiveChange[] }
+    | { type: 'command-result', id: string, ok: true, note?: string }
+    | { type: 'command-result', id: string, ok: false, reason: string }
+    | { type: 'error', message: string }
+    | { type: 'pong' }
+    | { type: 'heartbeat', at: number }

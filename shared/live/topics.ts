@@ -28,10 +28,10 @@ export const INPUT_FILTERS = [relative.detector('+'), relative.turnout('+'), rel
 /** Topic filters a layout's hardware subscribes to: signal indications, throw requests and which areas a signaller holds. */
 export const HARDWARE_FILTERS = (slug: string) => [layoutTopic(slug, relative.signal('+')), layoutTopic(slug, relative.turnoutSet('+')), layoutTopic(slug, relative.area('+'))]
 
-export type InputTopic =
-  | { kind: 'detector', layout: string, id: string }
-  | { kind: 'turnout', layout: string, id: string }
-  | { kind: 'device-status', layout: string, id: string }
+export type InputTopic
+  = | { kind: 'detector', layout: string, id: string }
+    | { kind: 'turnout', layout: string, id: string }
+    | { kind: 'device-status', layout: string, id: string }
 
 /** Reads an input topic, or null for anything else (our own outputs included). */
 export function parseInputTopic(topic: string): InputTopic | null {

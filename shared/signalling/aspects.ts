@@ -33,7 +33,7 @@ export class IndicationReader {
   constructor(topo: Topology, state: LayoutState) {
     this.topo = topo
     this.state = state
-    this.pos = (id) => state.turnouts[id] ?? 'unknown'
+    this.pos = id => state.turnouts[id] ?? 'unknown'
   }
 
   private local(s: LayoutSignal): Local {

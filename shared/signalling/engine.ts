@@ -85,8 +85,8 @@ class Draft {
     if (!this.live && !this.copied.has(k)) {
       this.copied.add(k)
       const src = this.next[k] as Record<string, unknown>
-      const keys =
-        k === 'occupied' ? this.topo.blockIds : k === 'detectors' ? this.topo.detectorIds : k === 'turnouts' || k === 'turnoutRevisions' ? this.topo.turnoutIds : k === 'overrides' || k === 'signalRevisions' ? this.topo.signalIds : null
+      const keys
+        = k === 'occupied' ? this.topo.blockIds : k === 'detectors' ? this.topo.detectorIds : k === 'turnouts' || k === 'turnoutRevisions' ? this.topo.turnoutIds : k === 'overrides' || k === 'signalRevisions' ? this.topo.signalIds : null
       ;(this.next as unknown as Record<string, unknown>)[k] = copyByKeys(src, keys ?? Object.keys(src))
     }
     return this.next[k]
@@ -248,7 +248,7 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       draft.map('detectors')[event.detector] = event.occupied
       changes.push({ type: 'detector', detector: event.detector, block, occupied: event.occupied, at })
       const dets = topo.blockById.get(block)!.detectors
-      const occupied = dets.some((d) => draft.next.detectors[d] === true)
+      const occupied = dets.some(d => draft.next.detectors[d] === true)
       if (occupied !== (base.occupied[block] === true)) {
         changes.push({ type: 'block', block, occupied, at })
         if (occupied) enterBlock(topo, layout, draft, block, at, changes)
@@ -263,11 +263,13 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       if (base.turnouts[t.id] === event.position) return []
       // judged on the state just before the move: the move itself is a fact and is applied all the same. A first
       // report (from unknown) is not a move: it says where the turnout lies, as after a start-up.
-      const lock = base.turnouts[t.id] === 'unknown' ? null : lockOf(topo, t.id, {
-        occupied: b => base.occupied[b] === true,
-        position: id => base.turnouts[id] ?? 'unknown',
-        aspect: id => draft.before(topo.signalById.get(id)!).aspect,
-      })
+      const lock = base.turnouts[t.id] === 'unknown'
+        ? null
+        : lockOf(topo, t.id, {
+            occupied: b => base.occupied[b] === true,
+            position: id => base.turnouts[id] ?? 'unknown',
+            aspect: id => draft.before(topo.signalById.get(id)!).aspect,
+          })
       draft.map('turnouts')[t.id] = event.position
       const revision = (base.turnoutRevisions[t.id] ?? 0) + 1
       draft.map('turnoutRevisions')[t.id] = revision
@@ -313,7 +315,7 @@ function run(layout: Layout, draft: Draft, event: LayoutEvent): Change[] {
       break
     }
     case 'acknowledge': {
-      const i = base.alarms.findIndex((a) => a.id === event.alarm)
+      const i = base.alarms.findIndex(a => a.id === event.alarm)
       if (i < 0) return [unknown('alarm', `unknown alarm "${event.alarm}"`)]
       const a = base.alarms[i]!
       if (a.acknowledgedAt !== null)
@@ -406,7 +408,7 @@ function occupiedUndescribedAhead(topo: Topology, state: LayoutState, block: str
  * parts the event did not touch. An event that names an unknown id or is malformed returns one error change
  * and the input state itself.
  */
-export function applyEvent(layout: Layout, state: LayoutState, event: LayoutEvent): { state: LayoutState; changes: Change[] } {
+export function applyEvent(layout: Layout, state: LayoutState, event: LayoutEvent): { state: LayoutState, changes: Change[] } {
   const draft = new Draft(topologyOf(layout), state, null)
   const changes = run(layout, draft, event)
   if (changes.length === 0 && draft.next.revision === state.revision) return { state, changes }

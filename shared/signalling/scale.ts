@@ -15,7 +15,7 @@ export const SCALES: readonly ScaleEntry[] = Object.freeze([
   { name: 'S', ratio: 64, basis: '3/16 inch to the foot (1:64)', source: 'NMRA Standard S-1.2' },
   { name: 'O (North America)', ratio: 48, basis: '1/4 inch to the foot (1:48)', source: 'NMRA Standard S-1.2' },
   { name: 'Z', ratio: 220, basis: '1:220', source: 'common practice' },
-].map((s) => Object.freeze(s)))
+].map(s => Object.freeze(s)))
 
 /** Metres in one statute mile (international yard and pound, exact). */
 export const METRES_PER_MILE = 1609.344
@@ -33,7 +33,7 @@ export interface ScaleSpeedInput {
  * Scale speed: the speed the full-size train would have, = model distance / real time x scale ratio.
  * Throws a RangeError unless length, time and ratio are positive finite numbers.
  */
-export function scaleSpeed({ lengthMm, seconds, ratio }: ScaleSpeedInput): { kmh: number; mph: number } {
+export function scaleSpeed({ lengthMm, seconds, ratio }: ScaleSpeedInput): { kmh: number, mph: number } {
   for (const [name, v] of [['lengthMm', lengthMm], ['seconds', seconds], ['ratio', ratio]] as const) {
     if (typeof v !== 'number' || !Number.isFinite(v) || v <= 0) throw new RangeError(`scaleSpeed: ${name} must be a positive number`)
   }

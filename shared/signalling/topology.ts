@@ -118,7 +118,7 @@ export function buildTopology(layout: Layout): Topology {
     blockIds: [...blockById.keys()],
     detectorIds: [...detectorBlock.keys()],
     turnoutIds: [...turnoutById.keys()],
-    signalIds: signals.map((s) => s.id),
+    signalIds: signals.map(s => s.id),
     blockById,
     out,
     inc,
@@ -160,12 +160,12 @@ export function onward(t: Topology, cur: string, prev: string | null): string[] 
   const outs = t.out.get(cur) ?? []
   if (prev === null) return outs
   const tos = t.turnoutsIn.get(cur)
-  let res = outs.filter((b) => b !== prev)
+  let res = outs.filter(b => b !== prev)
   if (tos) {
     for (const x of tos) {
       if (isLeg(x, prev)) {
         const other = x.normal === prev ? x.reverse : x.normal
-        res = res.filter((b) => b !== other)
+        res = res.filter(b => b !== other)
       }
     }
   }
@@ -211,7 +211,7 @@ interface Move {
   /** The facing turnout choosing between two ways on, if there are two. */
   fork: LayoutTurnout | null
   /** Per way on: the turnouts in `cur` it depends on, and the stop signal standing at `cur` -> that block. */
-  steps: Map<string, { needs: TurnoutNeed[]; stop: LayoutSignal | null }>
+  steps: Map<string, { needs: TurnoutNeed[], stop: LayoutSignal | null }>
   /** With no way on: the turnouts the entry from `prev` depends on (trailing). */
   endNeeds: TurnoutNeed[]
 }
@@ -232,9 +232,9 @@ function moveOf(t: Topology, cur: string, prev: string): Move {
   let m = byPrev.get(prev)
   if (!m) {
     const cands = onward(t, cur, prev)
-    const fork =
-      cands.length > 1 ? ((t.turnoutsIn.get(cur) ?? []).find((y) => cands.length === 2 && cands.includes(y.normal) && cands.includes(y.reverse)) ?? null) : null
-    const steps = new Map<string, { needs: TurnoutNeed[]; stop: LayoutSignal | null }>()
+    const fork
+      = cands.length > 1 ? ((t.turnoutsIn.get(cur) ?? []).find(y => cands.length === 2 && cands.includes(y.normal) && cands.includes(y.reverse)) ?? null) : null
+    const steps = new Map<string, { needs: TurnoutNeed[], stop: LayoutSignal | null }>()
     for (const nb of cands) steps.set(nb, { needs: needsThrough(t, cur, prev, nb), stop: t.stopAt.get(placeKey(cur, nb)) ?? null })
     m = { cands, fork, steps, endNeeds: needsThrough(t, cur, prev, null) }
     byPrev.set(prev, m)

@@ -1,8 +1,8 @@
 import type { Layout } from '../schemas/layout'
 
-export type { Layout }
-
 import type { Aspect, OverrideMode, TurnoutPosition } from './values'
+
+export type { Layout }
 
 export type { Aspect, OverrideMode, TurnoutPosition }
 
@@ -186,20 +186,20 @@ export interface ErrorChange {
   path: string
   message: string
 }
-export type Change =
-  | DetectorChange
-  | BlockChange
-  | IndicationChange
-  | TurnoutChange
-  | OverrideChange
-  | DescriptionChange
-  | AlarmChange
-  | AlarmAcknowledgedChange
-  | SpeedChange
-  | ErrorChange
+export type Change
+  = | DetectorChange
+    | BlockChange
+    | IndicationChange
+    | TurnoutChange
+    | OverrideChange
+    | DescriptionChange
+    | AlarmChange
+    | AlarmAcknowledgedChange
+    | SpeedChange
+    | ErrorChange
 
 export interface ValidationError {
   path: string
   message: string
 }
-export type ValidationResult = { ok: true; layout: Layout } | { ok: false; errors: ValidationError[] }
+export type ValidationResult = { ok: true, layout: Layout } | { ok: false, errors: ValidationError[] }

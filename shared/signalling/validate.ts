@@ -20,7 +20,7 @@ export function validateLayout(def: unknown): ValidationResult {
   if (!parsed.success) {
     return {
       ok: false,
-      errors: parsed.error.issues.map((i) => ({ path: pathString(i.path) || '(layout)', message: i.message })),
+      errors: parsed.error.issues.map(i => ({ path: pathString(i.path) || '(layout)', message: i.message })),
     }
   }
   const layout = parsed.data
@@ -95,7 +95,7 @@ function checkReferences(layout: Layout): ValidationError[] {
     const inc = topo.inc.get(b.id) ?? []
     const out = topo.out.get(b.id) ?? []
     const tos = topo.turnoutsIn.get(b.id) ?? []
-    const chooses = (c: string[]) => tos.some((t) => c.length === 2 && c.includes(t.normal) && c.includes(t.reverse))
+    const chooses = (c: string[]) => tos.some(t => c.length === 2 && c.includes(t.normal) && c.includes(t.reverse))
     const entries: (string | null)[] = inc.length ? inc : [null]
     const reported = new Set<string>()
     for (const p of entries) {
@@ -110,7 +110,7 @@ function checkReferences(layout: Layout): ValidationError[] {
     // trailing: trains from two blocks merge into one exit only through a turnout
     const exits: (string | null)[] = out.length ? out : [null]
     for (const n of exits) {
-      const c = inc.filter((p) => n === null || onward(topo, b.id, p).includes(n))
+      const c = inc.filter(p => n === null || onward(topo, b.id, p).includes(n))
       const key = `in:${[...c].sort().join(',')}`
       if (c.length <= 1 || reported.has(key)) continue
       reported.add(key)
@@ -191,4 +191,3 @@ function checkReferences(layout: Layout): ValidationError[] {
 
   return errors
 }
-

@@ -78,7 +78,12 @@ describe('the Panel with three people on one layout (Debian chromium)', () => {
   async function onEvery(check: (s: Seen, who: string) => void, timeout = CROSS_PANEL_MS, which = panels()) {
     await Promise.all(which.map(({ who, page }) => expect.poll(async () => {
       const s = await seen(page)
-      try { check(s, who); return 'ok' } catch (e) { return `${who}: ${(e as Error).message}` }
+      try {
+        check(s, who)
+        return 'ok'
+      } catch (e) {
+        return `${who}: ${(e as Error).message}`
+      }
     }, { timeout, ...POLL }).toBe('ok')))
   }
 

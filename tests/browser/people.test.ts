@@ -10,7 +10,7 @@ describe('in a real browser (Debian chromium)', () => {
   beforeAll(async () => {
     browser = await openBrowser({ width: 1280, height: 800 })
     browser.page.on('requestfailed', r => failedRequests.push(r.url()))
-    browser.page.on('console', m => { if (m.type() === 'error') consoleErrors.push(m.text()) })
+    browser.page.on('console', (m) => { if (m.type() === 'error') consoleErrors.push(m.text()) })
   })
   afterAll(async () => { await browser?.close() })
 

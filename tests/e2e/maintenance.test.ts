@@ -1,7 +1,8 @@
 // Track cleaning through the API of the built server, with the demo layout (Wrenfold Junction, invented).
 import { beforeAll, describe, expect, it } from 'vitest'
 import { setup } from '@nuxt/test-utils/e2e'
-import { BASE_URL, SessionClient, signedIn } from '../support/http-client'
+import type { SessionClient } from '../support/http-client'
+import { BASE_URL, signedIn } from '../support/http-client'
 
 await setup({ host: BASE_URL })
 

@@ -14,7 +14,11 @@ export class LiveClient {
     socket.on('message', (data) => {
       const message = JSON.parse(String(data)) as ServerMessage
       this.messages.push(message)
-      this.waiters = this.waiters.filter((w) => { if (!w.test(message)) return true; w.resolve(message); return false })
+      this.waiters = this.waiters.filter((w) => {
+        if (!w.test(message)) return true
+        w.resolve(message)
+        return false
+      })
     })
   }
 

@@ -42,9 +42,11 @@ export async function startLiveServer(run: DemoRun, opts: { port?: number, silen
     ws.on('close', () => subscribed.delete(ws))
   })
   const heartbeatMs = opts.silent ? null : opts.heartbeatMs === undefined ? HEARTBEAT_MS : opts.heartbeatMs
-  const heartbeat = heartbeatMs === null ? null : setInterval(() => {
-    for (const c of subscribed) c.send(JSON.stringify({ type: 'heartbeat', at: Date.now() }))
-  }, heartbeatMs)
+  const heartbeat = heartbeatMs === null
+    ? null
+    : setInterval(() => {
+        for (const c of subscribed) c.send(JSON.stringify({ type: 'heartbeat', at: Date.now() }))
+      }, heartbeatMs)
   const port = (wss.address() as AddressInfo).port
   const url = `ws://127.0.0.1:${port}/live`
   return {

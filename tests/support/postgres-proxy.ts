@@ -49,7 +49,12 @@ export async function startPostgresProxy(target: { host: string, port: number })
         done()
       }
     })
-    const end = () => { client.destroy(); upstream.destroy(); sockets.delete(client); sockets.delete(upstream) }
+    const end = () => {
+      client.destroy()
+      upstream.destroy()
+      sockets.delete(client)
+      sockets.delete(upstream)
+    }
     client.on('close', end).on('error', end)
     upstream.on('close', end).on('error', end)
   })
@@ -59,7 +64,7 @@ export async function startPostgresProxy(target: { host: string, port: number })
     port: (server.address() as { port: number }).port,
     lost: 0,
     loseReplyTo(sqlText) {
-      return new Promise(done => { armed = { sqlText, done } })
+      return new Promise((done) => { armed = { sqlText, done } })
     },
     async close() {
       for (const s of sockets) s.destroy()

@@ -63,7 +63,7 @@ async function pgShell(vars: Record<string, string>, script: string): Promise<st
     return stdout
   } catch (error) {
     const e = error as { stdout?: string, stderr?: string, message: string }
-    throw new Error(`PostgreSQL helper failed: ${e.message}\n${e.stdout ?? ''}\n${e.stderr ?? ''}`)
+    throw new Error(`PostgreSQL helper failed: ${e.message}\n${e.stdout ?? ''}\n${e.stderr ?? ''}`, { cause: error })
   }
 }
 

@@ -214,8 +214,7 @@ describe('area command results', () => {
       vi.advanceTimersByTime(60_000)
       await flushPromises()
       expect(w.find('[data-test="area-main"] [data-test="command-refused"]').text()).toContain('Rhea Lintwhistle took it first.')
-    }
-    finally {
+    } finally {
       vi.useRealTimers()
     }
   })

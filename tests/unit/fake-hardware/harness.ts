@@ -85,4 +85,4 @@ export function runWithEngine(layout: Layout, plans: TrainPlan[], options: Simul
 
 /** Detector publishes only, as "D03=1". */
 export const detectorTrail = (ps: readonly Publish[]): string[] =>
-  ps.filter((p) => p.topic.startsWith('detector/')).map((p) => `${p.topic.slice('detector/'.length)}=${occupiedIn(p.payload) ? '1' : p.payload}`)
+  ps.filter(p => p.topic.startsWith('detector/')).map(p => `${p.topic.slice('detector/'.length)}=${occupiedIn(p.payload) ? '1' : p.payload}`)

@@ -41,7 +41,7 @@ beforeEach(async () => {
     if (client?.id.startsWith('fake-layout-')) published.push({ topic: packet.topic.slice(PREFIX.length), payload: packet.payload.toString(), retain: packet.retain })
   })
   server = net.createServer(broker.handle)
-  await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', resolve))
+  await new Promise<void>(resolve => server.listen(0, '127.0.0.1', resolve))
   url = `mqtt://127.0.0.1:${(server.address() as net.AddressInfo).port}`
 })
 
@@ -50,8 +50,8 @@ afterEach(async () => {
   child = undefined
   await watcher?.endAsync(true)
   watcher = undefined
-  await new Promise<void>((resolve) => broker.close(() => resolve()))
-  await new Promise<void>((resolve) => server.close(() => resolve()))
+  await new Promise<void>(resolve => broker.close(() => resolve()))
+  await new Promise<void>(resolve => server.close(() => resolve()))
 })
 
 /** A subscriber to everything under the layout's prefix (retain flags: see `published`). */
@@ -73,7 +73,7 @@ function start(args: string[], env: Record<string, string> = {}): { done: Promis
   })
   child.stdout!.on('data', (d: Buffer) => out.push(...d.toString().split('\n').filter(Boolean)))
   child.stderr!.on('data', (d: Buffer) => out.push(...d.toString().split('\n').filter(Boolean)))
-  const done = new Promise<number | null>((resolve) => child!.on('exit', (code) => resolve(code)))
+  const done = new Promise<number | null>(resolve => child!.on('exit', code => resolve(code)))
   return { done, out }
 }
 
@@ -81,7 +81,7 @@ async function until(check: () => boolean, ms: number): Promise<void> {
   const end = Date.now() + ms
   while (!check()) {
     if (Date.now() > end) throw new Error('timed out')
-    await new Promise((r) => setTimeout(r, 20))
+    await new Promise(r => setTimeout(r, 20))
   }
 }
 
@@ -91,23 +91,23 @@ describe('the fake layout process on a real broker', () => {
     const script = JSON.parse(readFileSync(new URL('fake-hardware/scripts/one-train-up-main.json', ROOT), 'utf8')) as { topic: string, payload: string }[]
     const run = start(['--script', 'fake-hardware/scripts/one-train-up-main.json', '--speed-factor', '10'])
     // once the train is on the up main, an operator throws T4
-    await until(() => got.some((m) => m.topic === 'detector/D01' && m.payload === '1'), 20_000)
+    await until(() => got.some(m => m.topic === 'detector/D01' && m.payload === '1'), 20_000)
     await client.publishAsync(`${PREFIX}turnout/T4/set`, JSON.stringify({ position: 'reverse', by: 'Tam Oakridge' }), { qos: 1 })
     expect(await run.done).toBe(0)
     await until(() => got.at(-1)?.topic === 'device/fake-layout/status', 5000)
 
     expect(logins).toContain('fake-layout')
-    const fromLayout = got.filter((m) => m.topic !== 'turnout/T4/set')
+    const fromLayout = got.filter(m => m.topic !== 'turnout/T4/set')
     expect(fromLayout[0]).toEqual({ topic: 'device/fake-layout/status', payload: 'online' })
     expect(fromLayout.at(-1)).toEqual({ topic: 'device/fake-layout/status', payload: 'offline' })
-    const answer = fromLayout.findIndex((m) => m.topic === 'turnout/T4' && m.payload === 'reverse')
+    const answer = fromLayout.findIndex(m => m.topic === 'turnout/T4' && m.payload === 'reverse')
     expect(answer).toBeGreaterThan(0)
     const played = fromLayout.slice(1, -1).filter((_, i) => i + 1 !== answer)
-    expect(played.map((m) => [m.topic, m.payload])).toEqual(script.map((e) => [e.topic, e.payload]))
+    expect(played.map(m => [m.topic, m.payload])).toEqual(script.map(e => [e.topic, e.payload]))
     // as sent: status and turnouts retained, detector changes not
-    expect(published).toEqual(fromLayout.map((m) => ({ ...m, retain: !m.topic.startsWith('detector/') })))
-    expect(run.out.some((l) => /detector\/D01 1 {2}1F42 enters UM1$/.test(l))).toBe(true)
-    expect(run.out.some((l) => l.endsWith('T4 thrown reverse on request by Tam Oakridge'))).toBe(true)
+    expect(published).toEqual(fromLayout.map(m => ({ ...m, retain: !m.topic.startsWith('detector/') })))
+    expect(run.out.some(l => /detector\/D01 1 {2}1F42 enters UM1$/.test(l))).toBe(true)
+    expect(run.out.some(l => l.endsWith('T4 thrown reverse on request by Tam Oakridge'))).toBe(true)
 
     // what a device or server connecting later finds retained
     const late = await mqtt.connectAsync(url, { username: 'watcher', password: 'watching', clientId: 'late' })
@@ -123,17 +123,17 @@ describe('the fake layout process on a real broker', () => {
   it('runs trains, reports every turnout and detector at start, and its last will says offline', async () => {
     const { got } = await watch()
     const run = start(['--seed', '5', '--speed-factor', '20', '--ignore-signals', '--dropout-chance', '0'])
-    await until(() => got.filter((m) => m.topic.startsWith('detector/')).length >= 16 + 12, 30_000)
+    await until(() => got.filter(m => m.topic.startsWith('detector/')).length >= 16 + 12, 30_000)
     const layout = JSON.parse(readFileSync(new URL('shared/layouts/demo-layout.json', ROOT), 'utf8')) as { blocks: { detectors: string[] }[], turnouts: { id: string }[] }
-    const detectors = layout.blocks.flatMap((b) => b.detectors)
+    const detectors = layout.blocks.flatMap(b => b.detectors)
     expect(got[0]).toEqual({ topic: 'device/fake-layout/status', payload: 'online' })
     const first = got.slice(1, 1 + layout.turnouts.length + detectors.length)
-    expect(first.slice(0, layout.turnouts.length).map((m) => m.topic)).toEqual(layout.turnouts.map((t) => `turnout/${t.id}`))
-    expect(published.filter((m) => m.topic.startsWith('turnout/')).every((m) => m.retain)).toBe(true)
-    expect(first.slice(layout.turnouts.length).map((m) => m.topic)).toEqual(detectors.map((d) => `detector/${d}`))
+    expect(first.slice(0, layout.turnouts.length).map(m => m.topic)).toEqual(layout.turnouts.map(t => `turnout/${t.id}`))
+    expect(published.filter(m => m.topic.startsWith('turnout/')).every(m => m.retain)).toBe(true)
+    expect(first.slice(layout.turnouts.length).map(m => m.topic)).toEqual(detectors.map(d => `detector/${d}`))
     // the four trains stand in the fiddle roads FY1-FY4 (D13-D16) at the start, each detector reporting the
     // decoder address of the train on it (fake-hardware/trains/wrenfold.json)
-    expect(first.slice(layout.turnouts.length).filter((m) => m.payload !== '0').map((m) => [m.topic, JSON.parse(m.payload).address])).toEqual([
+    expect(first.slice(layout.turnouts.length).filter(m => m.payload !== '0').map(m => [m.topic, JSON.parse(m.payload).address])).toEqual([
       ['detector/D13', 142], ['detector/D14', 650], ['detector/D15', 201], ['detector/D16', 233],
     ])
     // afterwards only the layout's own detectors and turnouts, with their payloads
@@ -142,7 +142,7 @@ describe('the fake layout process on a real broker', () => {
       else expect(m.topic).toMatch(/^turnout\/T[1-7]$/)
       expect(m.payload).toMatch(/^(0|1|normal|reverse|\{"occupied":true,"address":\d+\})$/)
     }
-    expect(run.out.some((l) => / 1F42 enters UM1 \(D01=1\)$/.test(l))).toBe(true)
+    expect(run.out.some(l => / 1F42 enters UM1 \(D01=1\)$/.test(l))).toBe(true)
 
     // killed without saying goodbye: the broker publishes the last will
     child!.kill('SIGKILL')

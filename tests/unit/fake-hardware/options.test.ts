@@ -28,7 +28,7 @@ describe('parseOptions', () => {
     [['--seed=-1'], '--seed (BLOCKBELL_FAKE_SEED): "-1" is not a whole number'],
     [['--speed-factor', 'fast'], '--speed-factor (BLOCKBELL_FAKE_SPEED_FACTOR): "fast" is not a number above 0'],
     [['--slug', 'Wren Fold'], '--slug: "Wren Fold" is not a layout slug'],
-    [['--colour', 'red'], "Unknown option '--colour'"],
+    [['--colour', 'red'], 'Unknown option \'--colour\''],
   ])('refuses %j', (argv, message) => {
     const r = parseOptions(argv, {})
     expect(r.ok).toBe(false)
@@ -64,10 +64,10 @@ describe('createRandom', () => {
     const b = createRandom(123)
     const xs = Array.from({ length: 1000 }, () => a.next())
     expect(Array.from({ length: 1000 }, () => b.next())).toEqual(xs)
-    expect(xs.every((x) => x >= 0 && x < 1)).toBe(true)
+    expect(xs.every(x => x >= 0 && x < 1)).toBe(true)
     // roughly uniform: each tenth of [0, 1) gets 5-15 % of 1000 draws
     for (let k = 0; k < 10; k++) {
-      const n = xs.filter((x) => x >= k / 10 && x < (k + 1) / 10).length
+      const n = xs.filter(x => x >= k / 10 && x < (k + 1) / 10).length
       expect(n).toBeGreaterThan(50)
       expect(n).toBeLessThan(150)
     }

@@ -18,7 +18,7 @@ describe('headcodes', () => {
 describe('checkPlans', () => {
   it('accepts the demo plans for the demo layout', () => {
     expect(checkPlans(demoLayout(), demoPlans())).toEqual([])
-    expect(demoPlans().map((p) => p.headcode)).toEqual(['1F42', '6M50', '2J01', '2T33'])
+    expect(demoPlans().map(p => p.headcode)).toEqual(['1F42', '6M50', '2J01', '2T33'])
   })
 
   const layout = demoLayout()
@@ -30,8 +30,8 @@ describe('checkPlans', () => {
     ['a reversal in a block too short for the train', { lengthMm: 1300, route: ['BR', 'CP'] }, 'trains[0].route[1]', 'must fit in CP (1200 mm) to reverse there'],
   ])('reports %s', (_, change, path, message) => {
     const errors = checkPlans(layout, [plan(Object.assign({ headcode: '1F42', lengthMm: 600, speedKmh: 40, route }, change))])
-    expect(errors.map((e) => e.path)).toContain(path)
-    expect(errors.find((e) => e.path === path)!.message).toContain(message)
+    expect(errors.map(e => e.path)).toContain(path)
+    expect(errors.find(e => e.path === path)!.message).toContain(message)
   })
 
   it('reports a move from one leg of a turnout to the other', () => {
@@ -43,7 +43,7 @@ describe('checkPlans', () => {
   it('reports two trains with one headcode or one starting block', () => {
     const a = plan({ headcode: '1F42', lengthMm: 600, speedKmh: 40, route })
     const errors = checkPlans(layout, [a, { ...a }])
-    expect(errors.map((e) => e.message)).toEqual([
+    expect(errors.map(e => e.message)).toEqual([
       'headcode 1F42 is used by two trains',
       '1F42 and 1F42 both start in block FY1',
     ])
@@ -59,7 +59,7 @@ describe('checkPlans', () => {
 
 describe('round trips for layouts without a plan', () => {
   it('finds the four loops of the demo layout, through each fiddle road', () => {
-    const cycles = findCycles(demoLayout()).map((c) => c.join(' '))
+    const cycles = findCycles(demoLayout()).map(c => c.join(' '))
     expect(cycles.sort()).toEqual([
       'UM1 UM2 UM3 UM4 FY1',
       'UM1 UM2 UM3 UM4 FY2',
@@ -87,10 +87,10 @@ describe('round trips for layouts without a plan', () => {
     sim.start()
     for (let t = 0; t < 600_000; t += 100) {
       sim.step(100, {})
-      const blocks = sim.view().flatMap((v) => v.blocks)
+      const blocks = sim.view().flatMap(v => v.blocks)
       expect(new Set(blocks).size).toBe(blocks.length)
     }
-    expect(sim.view().every((v) => v.laps > 0)).toBe(true)
+    expect(sim.view().every(v => v.laps > 0)).toBe(true)
   })
 
   it('gives the same trains for the same seed', () => {

@@ -55,12 +55,12 @@ describe('ScriptPlayer', () => {
       { afterMs: 250, topic: 'd', payload: '1' },
     ])
     const player = new ScriptPlayer(events)
-    expect(player.due(0).map((e) => e.topic)).toEqual(['a'])
+    expect(player.due(0).map(e => e.topic)).toEqual(['a'])
     expect(player.nextDueMs()).toBe(100)
     expect(player.due(99)).toEqual([])
-    expect(player.due(100).map((e) => e.topic)).toEqual(['b', 'c'])
+    expect(player.due(100).map(e => e.topic)).toEqual(['b', 'c'])
     expect(player.done()).toBe(false)
-    expect(player.due(1000).map((e) => e.topic)).toEqual(['d'])
+    expect(player.due(1000).map(e => e.topic)).toEqual(['d'])
     expect(player.done()).toBe(true)
     expect(player.nextDueMs()).toBeNull()
   })
@@ -93,15 +93,15 @@ describe('the example scripts', () => {
 
   it('one-train-up-main runs one train round the up main at 30-60 scale km/h, front before rear', () => {
     const events = parsed(scriptFile('one-train-up-main.json'))
-    const moves = events.filter((e) => e.dueMs > 0 && e.topic.startsWith('detector/'))
-    expect(moves.map((e) => `${e.topic.slice(9)}=${e.payload}`)).toEqual([
+    const moves = events.filter(e => e.dueMs > 0 && e.topic.startsWith('detector/'))
+    expect(moves.map(e => `${e.topic.slice(9)}=${e.payload}`)).toEqual([
       'D01=1', 'D13=0', 'D02=1', 'D01=0', 'D03=1', 'D02=0', 'D04=1', 'D03=0', 'D13=1', 'D04=0',
     ])
     // scale speed over each block of the up main, from the front entering it to the front entering the next
-    const entered = (d: string) => moves.find((e) => e.topic === `detector/${d}` && e.payload === '1')!.dueMs
+    const entered = (d: string) => moves.find(e => e.topic === `detector/${d}` && e.payload === '1')!.dueMs
     const blocks = [['UM1', 'D01', 'D02'], ['UM2', 'D02', 'D03'], ['UM3', 'D03', 'D04']] as const
     for (const [block, into, next] of blocks) {
-      const lengthMm = layout.blocks.find((b) => b.id === block)!.lengthMm
+      const lengthMm = layout.blocks.find(b => b.id === block)!.lengthMm
       const { kmh } = scaleSpeed({ lengthMm, seconds: (entered(next) - entered(into)) / 1000, ratio: layout.scale.ratio })
       expect(kmh, block).toBeGreaterThan(30)
       expect(kmh, block).toBeLessThan(60)
@@ -111,6 +111,6 @@ describe('the example scripts', () => {
 
   it('spad-demo makes the engine raise one signal passed at danger alarm, at SU3 into UM4', () => {
     const alarms = play(parsed(scriptFile('spad-demo.json'))).state().alarms
-    expect(alarms.map((a) => [a.signal, a.block])).toEqual([['SU3', 'UM4']])
+    expect(alarms.map(a => [a.signal, a.block])).toEqual([['SU3', 'UM4']])
   })
 })

@@ -17,14 +17,14 @@ function runUntil(sim: Simulation, aspects: Parameters<Simulation['step']>[1], u
 describe('scale speed of the trains', () => {
   it('runs 1 m of OO track in 5 s at 54.86 scale km/h', () => {
     // docs/sources.md §3 case 6 [C]: OO 1:76.2, 1 m block in 5 s -> 0.2 m/s x 76.2 = 15.24 m/s = 54.86 km/h
-    const oo = SCALES.find((s) => s.name === 'OO')!
+    const oo = SCALES.find(s => s.name === 'OO')!
     expect(modelMmPerSecond(54.864, oo.ratio)).toBeCloseTo(200, 6)
     // HO: 1 ft/s is about 60 scale mph (docs/sources.md §3 case 2, forum.trains.com rule of thumb): 95.57 km/h
-    expect(modelMmPerSecond(95.57, SCALES.find((s) => s.name === 'HO')!.ratio)).toBeCloseTo(304.8, 0)
+    expect(modelMmPerSecond(95.57, SCALES.find(s => s.name === 'HO')!.ratio)).toBeCloseTo(304.8, 0)
     const sim = new Simulation(circle(6, 1000, false), [plan({ headcode: '1F42', lengthMm: 300, speedKmh: 54.864, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
     const ps = runUntil(sim, {}, () => false, 30_000)
-    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
+    const entered = (d: string) => ps.find(p => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
     expect(entered('D2') - entered('D1')).toBeCloseTo(5000, -1)
     expect(entered('D4') - entered('D3')).toBeCloseTo(5000, -1)
   })
@@ -34,7 +34,7 @@ describe('scale speed of the trains', () => {
     const sim = new Simulation(circle(6, 914.4, false), [plan({ headcode: '2J01', lengthMm: 300, speedKmh: 24.1196, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 1, dropoutChance: 0, speedVariation: 0 })
     sim.start()
     const ps = runUntil(sim, {}, () => false, 40_000)
-    const entered = (d: string) => ps.find((p) => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
+    const entered = (d: string) => ps.find(p => p.topic === `detector/${d}` && occupiedIn(p.payload))!.at
     expect(entered('D3') - entered('D2')).toBeCloseTo(10_400, -1)
   })
 })
@@ -47,14 +47,14 @@ describe('detectors', () => {
     const ps = runUntil(sim, {}, () => false, 22_000)
     expect(detectorTrail(ps)).toEqual(['D1=1', 'D0=0', 'D2=1', 'D1=0', 'D3=1', 'D2=0', 'D0=1', 'D3=0', 'D1=1', 'D0=0'])
     // the rear leaves a block once the front is a train length (300 mm at 200 mm/s = 1.5 s) into the next
-    const at = (d: string) => ps.find((p) => p.topic === `detector/${d}`)!.at
-    expect(ps.find((p) => p.topic === 'detector/D1' && p.payload === '0')!.at - at('D2')).toBeCloseTo(1500, -1)
+    const at = (d: string) => ps.find(p => p.topic === `detector/${d}`)!.at
+    expect(ps.find(p => p.topic === 'detector/D1' && p.payload === '0')!.at - at('D2')).toBeCloseTo(1500, -1)
   })
 
   it('a train longer than a block occupies several blocks at once', () => {
     // B0 holds the whole train at the start; the other blocks are shorter than the train
     const layout = circle(6, 1000, false)
-    const longStart = { ...layout, blocks: layout.blocks.map((b) => (b.id === 'B0' ? { ...b, lengthMm: 2000 } : b)) }
+    const longStart = { ...layout, blocks: layout.blocks.map(b => (b.id === 'B0' ? { ...b, lengthMm: 2000 } : b)) }
     const sim2 = new Simulation(longStart, [plan({ headcode: '6M50', lengthMm: 1500, speedKmh: 40, route: ['B0', 'B1', 'B2', 'B3', 'B4', 'B5'] })], { seed: 3, dropoutChance: 0 })
     sim2.start()
     const counts = new Set<number>()
@@ -69,7 +69,7 @@ describe('detectors', () => {
   it('drops a detector out briefly on dirty track, only while the train is on the block', () => {
     const sim = new Simulation(circle(4, 1000, false), [plan({ headcode: '1F42', lengthMm: 300, speedKmh: 54.864, route: ['B0', 'B1', 'B2', 'B3'] })], { seed: 4, dropoutChance: 1, speedVariation: 0 })
     sim.start()
-    const ps = runUntil(sim, {}, () => false, 40_000).filter((p) => p.topic.startsWith('detector/'))
+    const ps = runUntil(sim, {}, () => false, 40_000).filter(p => p.topic.startsWith('detector/'))
     let dropouts = 0
     let entries = 0
     const state = new Map<string, string>()
@@ -77,7 +77,7 @@ describe('detectors', () => {
       const p = ps[i]!
       if (occupiedIn(p.payload) && state.get(p.topic) !== 'dropout') entries++
       if (p.payload === '0') {
-        const back = ps.slice(i + 1).find((q) => q.topic === p.topic)
+        const back = ps.slice(i + 1).find(q => q.topic === p.topic)
         if (back && occupiedIn(back.payload) && back.at - p.at <= 100) {
           dropouts++
           expect(back.at - p.at).toBeGreaterThanOrEqual(30)
@@ -122,7 +122,7 @@ describe('signals', () => {
     for (let t = 0; t < 12_000; t += 10) {
       const r = sim.step(10, { ...proceedAll(4), S2: 'danger' })
       ps.push(...r.publishes)
-      log.push(...r.log.map((l) => l.text))
+      log.push(...r.log.map(l => l.text))
     }
     expect(detectorTrail(ps).slice(0, 3)).toEqual(['D1=1', 'D0=0', 'D2=1'])
     expect(log).toContain('1F42 runs past S2 at danger')
@@ -134,7 +134,7 @@ describe('signals', () => {
     // no signal passed at danger and no turnout moved under a lock
     expect(quiet.engine.state().alarms).toEqual([])
     // the trains that need no locked turnout keep going round: an hour is many rounds for each
-    for (const v of quiet.sim.view().filter((v) => v.headcode === '1F42' || v.headcode === '2J01')) expect(v.laps, v.headcode).toBeGreaterThanOrEqual(10)
+    for (const v of quiet.sim.view().filter(v => v.headcode === '1F42' || v.headcode === '2J01')) expect(v.laps, v.headcode).toBeGreaterThanOrEqual(10)
 
     // on a circle of two-block sections two trains keep meeting signals at danger with the block ahead free
     const ring = circle(6)
@@ -148,9 +148,9 @@ describe('signals', () => {
     expect(spads).toBeGreaterThan(0)
     const alarms = wild.engine.state().alarms
     expect(alarms.length).toBe(spads)
-    expect(alarms.every((a) => a.kind === 'spad')).toBe(true)
-    const passed = wild.log.filter((l) => / runs past \S+ at danger$/.test(l)).map((l) => l.split(' ')[3])
-    expect(alarms.map((a) => a.signal)).toEqual(passed)
+    expect(alarms.every(a => a.kind === 'spad')).toBe(true)
+    const passed = wild.log.filter(l => / runs past \S+ at danger$/.test(l)).map(l => l.split(' ')[3])
+    expect(alarms.map(a => a.signal)).toEqual(passed)
   })
 })
 
@@ -160,8 +160,8 @@ describe('interlocking', () => {
   // normal: 6M50 in fiddle road 2 waits for it, as a train at an interlocked junction waits for a signaller.
   it('never throws a locked turnout: 6M50 waits in fiddle road 2 for T5, locked by SF1, and says so', { timeout: 60_000 }, () => {
     const r = runWithEngine(demoLayout(), demoPlans(), { seed: 12, spadChance: 0, dropoutChance: 0.1 }, 1_200_000)
-    expect(r.engine.state().alarms.filter((a) => a.kind === 'turnout-under-lock')).toEqual([])
-    expect(r.sim.view().find((v) => v.headcode === '6M50')).toMatchObject({ blocks: ['FY2'], laps: 0 })
+    expect(r.engine.state().alarms.filter(a => a.kind === 'turnout-under-lock')).toEqual([])
+    expect(r.sim.view().find(v => v.headcode === '6M50')).toMatchObject({ blocks: ['FY2'], laps: 0 })
     expect(r.log).toContain('6M50 waits in FY2: T5 is not set for FY2 (locked: SF1 reads over it)')
     // 2T33, in fiddle road 4, waits likewise for T7, which SF3 reads over
     expect(r.log).toContain('2T33 waits in FY4: T7 is not set for FY4 (locked: SF3 reads over it)')
@@ -169,7 +169,7 @@ describe('interlocking', () => {
 
   it('once SF1 is held, as a signaller would to release T5, sets T5 for 6M50, which leaves; still no lock alarm', () => {
     const layout = demoLayout()
-    const plans = demoPlans().filter((p) => p.headcode === '1F42' || p.headcode === '6M50')
+    const plans = demoPlans().filter(p => p.headcode === '1F42' || p.headcode === '6M50')
     const sim = new Simulation(layout, plans, { seed: 13, spadChance: 0, dropoutChance: 0 })
     const engine = createEngine(layout)
     const feedAll = (ps: Publish[]) => { for (const p of ps) feed(engine, p, p.at + 1) }
@@ -178,7 +178,7 @@ describe('interlocking', () => {
     let heldAt: number | null = null
     for (let t = 0; t < 900_000 && !sim.view()[1]!.blocks.includes('UM1'); t += 50) {
       // hold SF1 once 1F42 has left fiddle road 1 and the up approach
-      if (heldAt === null && sim.view()[0]!.blocks.every((b) => b !== 'FY1' && b !== 'UM1') && sim.time() > 20_000) {
+      if (heldAt === null && sim.view()[0]!.blocks.every(b => b !== 'FY1' && b !== 'UM1') && sim.time() > 20_000) {
         heldAt = sim.time()
         engine.apply({ type: 'override', signal: 'SF1', mode: 'hold', at: sim.time() })
         sim.setOverride('SF1', 'hold') // the indication Blockbell publishes carries the override
@@ -193,7 +193,7 @@ describe('interlocking', () => {
 
   it('leaves the turnouts of an area a signaller holds to them: its trains wait at the signal until the route is set', () => {
     const layout = demoLayout()
-    const plans = demoPlans().filter((p) => p.headcode === '6M50')
+    const plans = demoPlans().filter(p => p.headcode === '6M50')
     const sim = new Simulation(layout, plans, { seed: 14, spadChance: 0, dropoutChance: 0 })
     const engine = createEngine(layout)
     const feedAll = (ps: Publish[]) => { for (const p of ps) feed(engine, p, p.at + 1) }
@@ -204,7 +204,7 @@ describe('interlocking', () => {
     for (let t = 0; t < 60_000; t += 50) ps.push(...sim.step(50, aspects()).publishes)
     feedAll(ps)
     // T5 (main line) lies normal; the train needs it reverse and does not throw it itself
-    expect(ps.filter((p) => p.topic.startsWith('turnout/'))).toEqual([])
+    expect(ps.filter(p => p.topic.startsWith('turnout/'))).toEqual([])
     expect(sim.view()[0]).toMatchObject({ blocks: ['FY2'], waitingFor: 'T5 is not set for FY2 (left to the signaller holding main)' })
     // the signaller holds SF1 (it reads over T5), then sets the route: the train goes
     engine.apply({ type: 'override', signal: 'SF1', mode: 'hold', at: sim.time() })
@@ -225,12 +225,12 @@ describe('keeping trains apart', () => {
   ])('never puts two trains in one block (%s)', { timeout: 60_000 }, (_, opts) => {
     const r = runWithEngine(demoLayout(), demoPlans(), { seed: 21, ...opts }, 1_800_000, 50, true)
     for (const views of r.views) {
-      const blocks = views.flatMap((v) => v.blocks)
+      const blocks = views.flatMap(v => v.blocks)
       expect(new Set(blocks).size).toBe(blocks.length)
     }
     // obeying signals, the trains that need a turnout an automatic signal locks wait (see interlocking below)
-    const moving = 'ignoreSignals' in opts ? r.sim.view() : r.sim.view().filter((v) => v.headcode === '1F42' || v.headcode === '2J01')
-    expect(moving.every((v) => v.laps >= 3)).toBe(true)
+    const moving = 'ignoreSignals' in opts ? r.sim.view() : r.sim.view().filter(v => v.headcode === '1F42' || v.headcode === '2J01')
+    expect(moving.every(v => v.laps >= 3)).toBe(true)
   })
 
   it('a train passing a signal at danger never runs into an occupied block', () => {
@@ -282,7 +282,7 @@ describe('turnouts', () => {
           if ((s + 1) * stepMs - set!.at < 1000) {
             const k = viewIndex(set!.at)
             const justBefore = [...r.views[k - 2]!, ...r.views[k - 1]!]
-            const onIt = justBefore.filter((o) => o.headcode !== v.headcode && o.blocks.includes(need.turnout.block))
+            const onIt = justBefore.filter(o => o.headcode !== v.headcode && o.blocks.includes(need.turnout.block))
             expect(onIt.length, what).toBeGreaterThan(0)
             waitedFor++
           }
@@ -304,7 +304,7 @@ describe('turnouts', () => {
     expect(req.log[0]!.text).toBe('T4 thrown reverse on request by Tam Oakridge (under 1F42)')
     // the trains never throw a turnout under a train (track locking): 1F42 waits on T4 until someone sets it
     const stuck = runUntil(sim, {}, () => false, OPERATOR_HOLD_MS + 30_000)
-    expect(stuck.filter((p) => p.topic === 'turnout/T4')).toEqual([])
+    expect(stuck.filter(p => p.topic === 'turnout/T4')).toEqual([])
     expect(sim.view()[0]).toMatchObject({ blocks: ['UM4'], waitingFor: 'T4 is not set for FY1 (locked: UM4 occupied)' })
     expect(sim.requestTurnout('T4', 'normal').publishes).toHaveLength(1)
     runUntil(sim, {}, () => sim.view()[0]!.blocks.includes('FY1'), 60_000)
@@ -320,10 +320,10 @@ describe('turnouts', () => {
     expect(req.log[0]!.text).toBe('T4 thrown reverse on request by Tam Oakridge')
     const requestedAt = sim.time()
     const ps = runUntil(sim, {}, () => sim.view()[0]!.blocks.includes('FY1'), 120_000)
-    const thrownBack = ps.find((p) => p.topic === 'turnout/T4')!
+    const thrownBack = ps.find(p => p.topic === 'turnout/T4')!
     expect(thrownBack.payload).toBe('normal')
     expect(thrownBack.at - requestedAt).toBeGreaterThanOrEqual(OPERATOR_HOLD_MS)
-    const entered = ps.findIndex((p) => p.topic === 'detector/D13' && occupiedIn(p.payload))
+    const entered = ps.findIndex(p => p.topic === 'detector/D13' && occupiedIn(p.payload))
     expect(entered).toBeGreaterThan(ps.indexOf(thrownBack))
     expect(sim.view()[0]!.blocks).toEqual(['UM4', 'FY1'])
   })
@@ -336,15 +336,15 @@ describe('turnouts', () => {
   })
 
   it('runs the branch train out to Carrowmere, reverses it there and lifts it back in the fiddle yard', () => {
-    const branch = demoPlans().find((p) => p.headcode === '2T33')!
+    const branch = demoPlans().find(p => p.headcode === '2T33')!
     const sim = new Simulation(demoLayout(), [branch], { seed: 10, dropoutChance: 0, ignoreSignals: true })
     const start = sim.start().publishes
-    expect(start.filter((p) => p.topic.startsWith('turnout/')).every((p) => p.retain)).toBe(true)
+    expect(start.filter(p => p.topic.startsWith('turnout/')).every(p => p.retain)).toBe(true)
     // T7 (in DM1) is set for the move out of fiddle road 4 before anything is reported: the first report says so
-    expect(start.filter((p) => p.topic === 'turnout/T7')).toEqual([expect.objectContaining({ payload: 'reverse' })])
-    expect(start.findIndex((p) => p.topic === 'turnout/T7')).toBeLessThan(start.findIndex((p) => p.topic.startsWith('detector/')))
+    expect(start.filter(p => p.topic === 'turnout/T7')).toEqual([expect.objectContaining({ payload: 'reverse' })])
+    expect(start.findIndex(p => p.topic === 'turnout/T7')).toBeLessThan(start.findIndex(p => p.topic.startsWith('detector/')))
     const ps = runUntil(sim, {}, () => sim.view()[0]!.laps === 1 && sim.view()[0]!.blocks[0] === 'FY4', 600_000, 50)
-    const trail = ps.map((p) => (p.topic.startsWith('turnout/') ? `${p.topic.slice(8)}:${p.payload}` : `${p.topic.slice(9)}=${occupiedIn(p.payload) ? '1' : p.payload}`))
+    const trail = ps.map(p => (p.topic.startsWith('turnout/') ? `${p.topic.slice(8)}:${p.payload}` : `${p.topic.slice(9)}=${occupiedIn(p.payload) ? '1' : p.payload}`))
     // each turnout is set as the train enters the block of the signal whose section holds it
     expect(trail).toEqual([
       'D05=1', 'T1:reverse', 'D16=0', // into DM1; T1 (in DM2) set for the branch, section of SD1

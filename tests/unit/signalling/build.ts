@@ -35,17 +35,17 @@ export function line(n: number, kind: Kind, exit: 'open' | 'buffer' = 'open'): L
 /** Indications of every signal in a state. */
 export const ind = (layout: Layout, state: LayoutState) => computeIndications(layout, state)
 
-export const LETTER: Record<Aspect, string> = { danger: 'R', caution: 'Y', 'preliminary-caution': 'YY', proceed: 'G' }
+export const LETTER: Record<Aspect, string> = { 'danger': 'R', 'caution': 'Y', 'preliminary-caution': 'YY', 'proceed': 'G' }
 
 /** Aspects as R / Y / YY / G, in signal order, space separated. */
 export function aspects(layout: Layout, state: LayoutState, ids?: string[]): string {
-  const list = ids ?? layout.signals.map((s) => s.id)
+  const list = ids ?? layout.signals.map(s => s.id)
   const now = computeIndications(layout, state)
-  return list.map((id) => LETTER[now[id]!.aspect]).join(' ')
+  return list.map(id => LETTER[now[id]!.aspect]).join(' ')
 }
 
 export function detectorOf(layout: Layout, blockId: string): string {
-  const b = layout.blocks.find((x) => x.id === blockId)
+  const b = layout.blocks.find(x => x.id === blockId)
   if (!b) throw new Error(`no block ${blockId}`)
   return b.detectors[0]!
 }
@@ -90,7 +90,7 @@ export const mode = (signal: string, m: 'hold' | 'auto' | 'clear', at = (clock +
 
 /** State with the given blocks occupied (and nothing else changed). */
 export function withOccupied(layout: Layout, blocks: string[], state: LayoutState = initialState(layout)): LayoutState {
-  return run(layout, blocks.map((b) => occ(layout, b)), state).state
+  return run(layout, blocks.map(b => occ(layout, b)), state).state
 }
 
-export const alarmsOf = (changes: Change[]) => changes.filter((c) => c.type === 'alarm').map((c) => (c.type === 'alarm' ? c.alarm : null)!)
+export const alarmsOf = (changes: Change[]) => changes.filter(c => c.type === 'alarm').map(c => (c.type === 'alarm' ? c.alarm : null)!)

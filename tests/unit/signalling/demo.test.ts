@@ -25,7 +25,7 @@ describe('demo layout', () => {
     expect(l.blocks).toHaveLength(16)
     expect(l.signals).toHaveLength(13)
     expect(l.turnouts).toHaveLength(7)
-    expect(l.areas.map((a) => a.name)).toEqual(['Main line', 'Branch & station'])
+    expect(l.areas.map(a => a.name)).toEqual(['Main line', 'Branch & station'])
     for (const b of l.blocks) {
       expect(b.lengthMm).toBeGreaterThanOrEqual(900)
       expect(b.lengthMm).toBeLessThanOrEqual(2400)
@@ -35,18 +35,18 @@ describe('demo layout', () => {
 
   it('puts every signal and turnout in exactly one area', () => {
     const l = demoLayout()
-    const signals = l.areas.flatMap((a) => a.signals).sort()
-    const turnouts = l.areas.flatMap((a) => a.turnouts).sort()
-    expect(signals).toEqual(l.signals.map((s) => s.id).sort())
-    expect(turnouts).toEqual(l.turnouts.map((t) => t.id).sort())
+    const signals = l.areas.flatMap(a => a.signals).sort()
+    const turnouts = l.areas.flatMap(a => a.turnouts).sort()
+    expect(signals).toEqual(l.signals.map(s => s.id).sort())
+    expect(turnouts).toEqual(l.turnouts.map(t => t.id).sort())
   })
 
   it('has drawing data for every block, signal and turnout, inside the drawing', () => {
     const l = demoLayout()
     const d = l.diagram
-    expect(Object.keys(d.blocks).sort()).toEqual(l.blocks.map((b) => b.id).sort())
-    expect(Object.keys(d.signals).sort()).toEqual(l.signals.map((s) => s.id).sort())
-    expect(Object.keys(d.turnouts).sort()).toEqual(l.turnouts.map((t) => t.id).sort())
+    expect(Object.keys(d.blocks).sort()).toEqual(l.blocks.map(b => b.id).sort())
+    expect(Object.keys(d.signals).sort()).toEqual(l.signals.map(s => s.id).sort())
+    expect(Object.keys(d.turnouts).sort()).toEqual(l.turnouts.map(t => t.id).sort())
     expect([d.width, d.height]).toEqual([1280, 800])
     for (const b of Object.values(d.blocks)) expect(b.label).toBeDefined()
   })
@@ -65,7 +65,7 @@ describe('demo layout', () => {
     for (const link of l.links) {
       const a = d.blocks[link.from]!.path
       const b = d.blocks[link.to]!.path
-      const touch = ends(a).some((p) => onPath(p, b)) || ends(b).some((p) => onPath(p, a))
+      const touch = ends(a).some(p => onPath(p, b)) || ends(b).some(p => onPath(p, a))
       expect(touch, `${link.from} -> ${link.to}`).toBe(true)
     }
     for (const t of l.turnouts) expect(onPath(d.turnouts[t.id]!.at, d.blocks[t.block]!.path), t.id).toBe(true)
@@ -73,7 +73,7 @@ describe('demo layout', () => {
 })
 
 const DETECTOR: Record<string, string> = Object.fromEntries(
-  (demo.blocks as { id: string; detectors: string[] }[]).map((b) => [b.id, b.detectors[0]!]),
+  (demo.blocks as { id: string, detectors: string[] }[]).map(b => [b.id, b.detectors[0]!]),
 )
 const at = (s: number) => 1_750_000_000_000 + s * 1000
 const on = (block: string, s: number): LayoutEvent => ({ type: 'detector', detector: DETECTOR[block]!, occupied: true, at: at(s) })
@@ -82,7 +82,7 @@ const turn = (turnout: string, position: 'normal' | 'reverse', s: number): Layou
 
 const show = (i: Indication) => LETTER[i.aspect] + (i.indicator ? `(${i.indicator})` : '')
 const indicationChanges = (changes: Change[]) =>
-  changes.flatMap((c) => (c.type === 'indication' ? [`${c.signal} ${show(c.indication)}`] : []))
+  changes.flatMap(c => (c.type === 'indication' ? [`${c.signal} ${show(c.indication)}`] : []))
 
 describe('one train through the demo layout', () => {
   // Train 2C05 leaves fiddle road 3, runs the down main to Wrenfold Junction, takes the branch to
@@ -98,8 +98,8 @@ describe('one train through the demo layout', () => {
     turn('T6', 'normal', 0),
     turn('T7', 'normal', 0),
   ]
-  const afterSetup =
-    'SU1 G, SU2 G, SU3 G, SD1 YY(1), SD2 G, SD3 G, SF1 G, SF2 R, SF3 G, SF4 R, SB1 Y, SB2 R, SB3 R'
+  const afterSetup
+    = 'SU1 G, SU2 G, SU3 G, SD1 YY(1), SD2 G, SD3 G, SF1 G, SF2 R, SF3 G, SF4 R, SB1 Y, SB2 R, SB3 R'
 
   const steps: [string, LayoutEvent, string[]][] = [
     ['train stands in fiddle road 3: in the down starter section', on('FY3', 10), ['SD2 Y', 'SD3 R']],
@@ -136,7 +136,7 @@ describe('one train through the demo layout', () => {
     const layout = demoLayout()
     let state: LayoutState = initialState(layout)
     for (const e of setup) state = applyEvent(layout, state, e).state
-    expect(layout.signals.map((s) => `${s.id} ${show(ind(layout, state)[s.id]!)}`).join(', ')).toBe(afterSetup)
+    expect(layout.signals.map(s => `${s.id} ${show(ind(layout, state)[s.id]!)}`).join(', ')).toBe(afterSetup)
     const all: Change[] = []
     for (const [name, event, want] of steps) {
       const r = applyEvent(layout, state, event)
@@ -144,10 +144,10 @@ describe('one train through the demo layout', () => {
       all.push(...r.changes)
       expect(indicationChanges(r.changes), name).toEqual(want)
     }
-    expect(all.filter((c) => c.type === 'alarm')).toEqual([])
-    expect(all.filter((c) => c.type === 'error')).toEqual([])
+    expect(all.filter(c => c.type === 'alarm')).toEqual([])
+    expect(all.filter(c => c.type === 'error')).toEqual([])
     expect(state.descriptions).toEqual({ FY1: '2C05' })
-    const berths = all.flatMap((c) => (c.type === 'description' && c.reason === 'step' ? [c.block] : []))
+    const berths = all.flatMap(c => (c.type === 'description' && c.reason === 'step' ? [c.block] : []))
     expect(berths).toEqual(['DM1', 'DM2', 'JD', 'BR', 'CP', 'BR', 'JU', 'UM3', 'UM4', 'FY1'])
   })
 
@@ -155,7 +155,7 @@ describe('one train through the demo layout', () => {
     const layout = demoLayout()
     const engine = createEngine(layout)
     for (const e of setup) engine.apply(e)
-    const speeds = steps.flatMap(([, e]) => engine.apply(e)).flatMap((c) => (c.type === 'speed' ? [[c.block, Number(c.kmh.toFixed(2))]] : []))
+    const speeds = steps.flatMap(([, e]) => engine.apply(e)).flatMap(c => (c.type === 'speed' ? [[c.block, Number(c.kmh.toFixed(2))]] : []))
     // computed by hand: length / time in block x 76.2 x 3.6, e.g. fiddle road 3: 1.8 m / 10 s x 76.2 x 3.6 = 49.38
     expect(speeds).toEqual([
       ['FY3', 49.38],
@@ -178,7 +178,7 @@ describe('one train through the demo layout', () => {
     for (const [, e] of steps.slice(0, 10)) engine.apply(e) // the train is on the branch, in BR
     engine.apply({ type: 'override', signal: 'SB1', mode: 'hold', at: at(70), by: 'signaller-2' })
     const changes = engine.apply(on('CP', 80))
-    expect(changes.filter((c) => c.type === 'alarm').map((c) => c.type === 'alarm' && c.alarm)).toEqual([
+    expect(changes.filter(c => c.type === 'alarm').map(c => c.type === 'alarm' && c.alarm)).toEqual([
       { id: 'spad-1', kind: 'spad', signal: 'SB1', block: 'CP', description: '2C05', at: at(80), acknowledgedAt: null },
     ])
   })

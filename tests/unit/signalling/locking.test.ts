@@ -112,11 +112,11 @@ describe('a reported move under a lock', () => {
   })
 
   it('raises nothing for a first report (from unknown) under a train: it says where the turnout lies, it is no move', () => {
-    const s = state(facing, (l) => [occ(l, 'J')])
+    const s = state(facing, l => [occ(l, 'J')])
     expect(turnoutLock(facing, s, 'TF')).toEqual({ reason: 'occupied', block: 'J' })
     const r = applyEvent(facing, s, { type: 'turnout', turnout: 'TF', position: 'normal', at: 7 })
     expect(r.state.turnouts.TF).toBe('normal')
-    expect(r.changes.some((c) => c.type === 'alarm')).toBe(false)
+    expect(r.changes.some(c => c.type === 'alarm')).toBe(false)
   })
 
   it('raises nothing for a move of a free turnout, or a report of the position it already has', () => {

@@ -11,7 +11,7 @@ import { deepFreeze, lockedMoveExample, scenarioArb } from './random-layouts'
  * route up to and including the block where the next stop signal stands. `known` is false where a turnout on
  * the way is unknown or set against the route.
  */
-function referenceSection(layout: Layout, state: LayoutState, s: Layout['signals'][number]): { blocks: string[]; known: boolean } {
+function referenceSection(layout: Layout, state: LayoutState, s: Layout['signals'][number]): { blocks: string[], known: boolean } {
   const blocks: string[] = []
   let prev = s.from
   let cur = s.protects
@@ -20,20 +20,20 @@ function referenceSection(layout: Layout, state: LayoutState, s: Layout['signals
   while (!seen.has(`${prev}>${cur}`)) {
     seen.add(`${prev}>${cur}`)
     blocks.push(cur)
-    const here = layout.turnouts.filter((t) => t.block === cur)
-    const trailing = here.find((t) => t.normal === prev || t.reverse === prev)
+    const here = layout.turnouts.filter(t => t.block === cur)
+    const trailing = here.find(t => t.normal === prev || t.reverse === prev)
     if (trailing && legPos(trailing) !== prev) return { blocks, known: false }
-    let outs = layout.links.filter((l) => l.from === cur && l.to !== prev).map((l) => l.to)
-    if (trailing) outs = outs.filter((b) => b !== trailing.normal && b !== trailing.reverse)
+    let outs = layout.links.filter(l => l.from === cur && l.to !== prev).map(l => l.to)
+    if (trailing) outs = outs.filter(b => b !== trailing.normal && b !== trailing.reverse)
     if (outs.length === 0) return { blocks, known: true }
-    const facing = here.find((t) => t !== trailing && outs.some((b) => b === t.normal || b === t.reverse))
+    const facing = here.find(t => t !== trailing && outs.some(b => b === t.normal || b === t.reverse))
     let nb = outs[0]!
     if (facing) {
       const leg = legPos(facing)
       if (leg === null || !outs.includes(leg)) return { blocks, known: false }
       nb = leg
     }
-    if (layout.signals.some((x) => x.kind !== 'distant' && x.from === cur && x.protects === nb)) return { blocks, known: true }
+    if (layout.signals.some(x => x.kind !== 'distant' && x.from === cur && x.protects === nb)) return { blocks, known: true }
     prev = cur
     cur = nb
   }
@@ -84,9 +84,9 @@ describe('applyEvent on random layouts and event sequences', () => {
         for (const e of events) {
           const r = applyEvent(layout, state, e)
           const after = computeIndications(layout, r.state)
-          const changed = layout.signals.map((s) => s.id).filter((id) => JSON.stringify(before[id]) !== JSON.stringify(after[id]))
-          const reported = r.changes.flatMap((c) => (c.type === 'indication' ? [c] : []))
-          expect(reported.map((c) => c.signal)).toEqual(changed)
+          const changed = layout.signals.map(s => s.id).filter(id => JSON.stringify(before[id]) !== JSON.stringify(after[id]))
+          const reported = r.changes.flatMap(c => (c.type === 'indication' ? [c] : []))
+          expect(reported.map(c => c.signal)).toEqual(changed)
           for (const c of reported) {
             expect(c.indication).toEqual(after[c.signal])
             expect(c.previous).toEqual(before[c.signal])
@@ -108,7 +108,7 @@ describe('applyEvent on random layouts and event sequences', () => {
           const shown = computeIndications(layout, state)
           for (const s of layout.signals) {
             const { blocks, known } = referenceSection(layout, state, s)
-            const occupied = blocks.some((b) => state.occupied[b])
+            const occupied = blocks.some(b => state.occupied[b])
             const ind = shown[s.id]!
             if (occupied || !known || state.overrides[s.id] === 'hold') {
               expect(ind.aspect, `${s.id} ${s.kind}`).toBe(s.kind === 'distant' ? 'caution' : 'danger')
@@ -134,13 +134,13 @@ describe('applyEvent on random layouts and event sequences', () => {
           for (const c of r.changes) {
             if (c.type === 'alarm' && c.alarm.kind === 'spad') {
               expect(shownBefore[c.alarm.signal]!.aspect).toBe('danger')
-              const sig = layout.signals.find((s) => s.id === c.alarm.signal)!
+              const sig = layout.signals.find(s => s.id === c.alarm.signal)!
               expect(sig.protects).toBe(c.alarm.block)
               expect(state.occupied[sig.from]).toBe(true)
             }
           }
           expect(r.state.alarms.length).toBeGreaterThanOrEqual(state.alarms.length)
-          expect(r.state.alarms.slice(0, state.alarms.length).map((a) => a.id)).toEqual(state.alarms.map((a) => a.id))
+          expect(r.state.alarms.slice(0, state.alarms.length).map(a => a.id)).toEqual(state.alarms.map(a => a.id))
           state = r.state
         }
       }),
@@ -158,13 +158,13 @@ describe('applyEvent on random layouts and event sequences', () => {
         let state = initialState(layout)
         for (const e of events) {
           const r = applyEvent(layout, state, e)
-          const t = e.type === 'turnout' ? layout.turnouts.find((x) => x.id === e.turnout) : undefined
-          const alarms = r.changes.flatMap((c) => (c.type === 'alarm' && c.alarm.kind === 'turnout-under-lock' ? [c.alarm] : []))
+          const t = e.type === 'turnout' ? layout.turnouts.find(x => x.id === e.turnout) : undefined
+          const alarms = r.changes.flatMap(c => (c.type === 'alarm' && c.alarm.kind === 'turnout-under-lock' ? [c.alarm] : []))
           if (t && e.type === 'turnout' && state.turnouts[t.id] !== e.position) {
             const shown = computeIndications(layout, state)
             const signal = state.occupied[t.block]
               ? null
-              : layout.signals.find((s) => s.kind !== 'distant' && shown[s.id]!.aspect !== 'danger' && referenceSection(layout, state, s).blocks.includes(t.block))?.id ?? null
+              : layout.signals.find(s => s.kind !== 'distant' && shown[s.id]!.aspect !== 'danger' && referenceSection(layout, state, s).blocks.includes(t.block))?.id ?? null
             // a first report (from unknown) is not a move and raises nothing
             const locked = state.turnouts[t.id] !== 'unknown' && (state.occupied[t.block] === true || signal !== null)
             const lock = turnoutLock(layout, state, t.id)
@@ -205,7 +205,7 @@ describe('createEngine', () => {
           expect(engine.state()).toEqual(state)
           expect(engine.indications()).toEqual(computeIndications(layout, state))
           for (const t of layout.turnouts) expect(turnoutLock(layout, engine.state(), t.id)).toEqual(turnoutLock(layout, state, t.id))
-          lockAlarms += r.changes.filter((c) => c.type === 'alarm' && c.alarm.kind === 'turnout-under-lock').length
+          lockAlarms += r.changes.filter(c => c.type === 'alarm' && c.alarm.kind === 'turnout-under-lock').length
         }
       }),
       { ...RUNS, examples: [[lockedMoveExample()]] },

@@ -20,7 +20,7 @@ const sig = (id: string, kind: string, from: string, protects: string, extra: Re
   protects,
   ...extra,
 })
-const descriptions = (c: Change[]) => c.filter((x) => x.type === 'description')
+const descriptions = (c: Change[]) => c.filter(x => x.type === 'description')
 
 describe('automatic aspects by kind, on a line of four sections (open exit)', () => {
   // each row: occupied blocks -> S1 S2 S3 S4
@@ -63,7 +63,7 @@ describe('end of line', () => {
 /** P -> Q -> R -> X: two-aspect stop H at P>Q, distant D at Q>R, two-aspect stop S at R>X (open exit). */
 function withDistant(): Layout {
   return layoutOf({
-    blocks: ['P', 'Q', 'R', 'X'].map((b) => block(b)),
+    blocks: ['P', 'Q', 'R', 'X'].map(b => block(b)),
     links: links('P>Q', 'Q>R', 'R>X'),
     signals: [sig('H', 'two-aspect', 'P', 'Q'), sig('D', 'distant', 'Q', 'R'), sig('S', 'two-aspect', 'R', 'X', { endOfLine: 'clear-ahead' })],
   })
@@ -95,13 +95,13 @@ describe('distant signals', () => {
 })
 
 describe('overrides', () => {
-  const rows: { name: string; kind: string; exit: 'open' | 'buffer'; events: (l: Layout) => LayoutEvent[]; want: string; exceeds: string[] }[] = [
+  const rows: { name: string, kind: string, exit: 'open' | 'buffer', events: (l: Layout) => LayoutEvent[], want: string, exceeds: string[] }[] = [
     { name: 'hold shows danger on a clear line', kind: 'four-aspect', exit: 'open', events: () => [mode('S2', 'hold')], want: 'Y R G', exceeds: [] },
     {
       name: 'clear shows proceed with danger ahead, marked as more than the line justifies',
       kind: 'four-aspect',
       exit: 'open',
-      events: (l) => [occ(l, 'B3'), mode('S2', 'clear')],
+      events: l => [occ(l, 'B3'), mode('S2', 'clear')],
       want: 'G G R',
       exceeds: ['S2'],
     },
@@ -125,7 +125,7 @@ describe('overrides', () => {
       name: 'clear with its own section occupied shows danger',
       kind: 'four-aspect',
       exit: 'open',
-      events: (l) => [occ(l, 'B2'), mode('S2', 'clear')],
+      events: l => [occ(l, 'B2'), mode('S2', 'clear')],
       want: 'Y R G',
       exceeds: [],
     },
@@ -133,7 +133,7 @@ describe('overrides', () => {
       name: 'a train passing a cleared signal drops it to danger',
       kind: 'three-aspect',
       exit: 'buffer',
-      events: (l) => [mode('S3', 'clear'), occ(l, 'B2'), occ(l, 'B3')],
+      events: l => [mode('S3', 'clear'), occ(l, 'B2'), occ(l, 'B3')],
       want: 'Y R R',
       exceeds: [],
     },
@@ -158,14 +158,14 @@ describe('overrides', () => {
     const layout = line(2, 'three-aspect')
     const { state, changes } = run(layout, [mode('S1', 'hold'), mode('S1', 'hold'), mode('S1', 'clear')])
     expect(state.signalRevisions).toEqual({ S1: 2, S2: 0 })
-    expect(changes.filter((c) => c.type === 'override').map((c) => c.type === 'override' && c.revision)).toEqual([1, 2])
+    expect(changes.filter(c => c.type === 'override').map(c => c.type === 'override' && c.revision)).toEqual([1, 2])
   })
 })
 
 /** B0 > B1 > B2 > B3 with facing turnout T in B3: normal to B4m, reverse to B4d; S3 at B2>B3 is the junction signal. */
 function facingJunction(signalOnBranch = true): Layout {
   return layoutOf({
-    blocks: ['B0', 'B1', 'B2', 'B3', 'B4m', 'B5m', 'B4d', 'B5d'].map((b) => block(b)),
+    blocks: ['B0', 'B1', 'B2', 'B3', 'B4m', 'B5m', 'B4d', 'B5d'].map(b => block(b)),
     links: links('B0>B1', 'B1>B2', 'B2>B3', 'B3>B4m', 'B4m>B5m', 'B3>B4d', 'B4d>B5d'),
     turnouts: [{ id: 'T', block: 'B3', normal: 'B4m', reverse: 'B4d' }],
     signals: [
@@ -179,7 +179,7 @@ function facingJunction(signalOnBranch = true): Layout {
 
 describe('routes through a facing turnout', () => {
   // S2 S3 S4m S4d (or S5d): the branch signal reads a buffer stop beyond (danger ahead), so it shows caution when clear
-  const rows: { name: string; branchSignal: boolean; events: (l: Layout) => LayoutEvent[]; want: string; indicator: string | null }[] = [
+  const rows: { name: string, branchSignal: boolean, events: (l: Layout) => LayoutEvent[], want: string, indicator: string | null }[] = [
     { name: 'turnout position unknown: the junction signal is at danger', branchSignal: true, events: () => [], want: 'Y R G Y', indicator: null },
     { name: 'normal: reads the main line', branchSignal: true, events: () => [set('T', 'normal')], want: 'G G G Y', indicator: null },
     {
@@ -192,7 +192,7 @@ describe('routes through a facing turnout', () => {
     {
       name: 'normal: a train on the branch does not concern the junction signal',
       branchSignal: true,
-      events: (l) => [set('T', 'normal'), occ(l, 'B4d')],
+      events: l => [set('T', 'normal'), occ(l, 'B4d')],
       want: 'G G G R',
       indicator: null,
     },
@@ -206,14 +206,14 @@ describe('routes through a facing turnout', () => {
     {
       name: 'no signal at the branch exit: the section runs on along the set leg to the next signal',
       branchSignal: false,
-      events: (l) => [set('T', 'reverse'), occ(l, 'B4d')],
+      events: l => [set('T', 'reverse'), occ(l, 'B4d')],
       want: 'Y R G Y',
       indicator: null,
     },
     {
       name: 'no signal at the branch exit, turnout normal: the branch block is not in the section',
       branchSignal: false,
-      events: (l) => [set('T', 'normal'), occ(l, 'B4d')],
+      events: l => [set('T', 'normal'), occ(l, 'B4d')],
       want: 'G G G Y',
       indicator: null,
     },
@@ -244,14 +244,14 @@ describe('routes through a facing turnout', () => {
     const layout = facingJunction(true)
     const { state } = run(layout, [set('T', 'reverse'), mode('S3', 'hold')])
     expect(ind(layout, state).S3).toMatchObject({ aspect: 'danger', indicator: null })
-    expect(Object.values(ind(layout, state)).filter((i) => i.indicator !== null)).toEqual([])
+    expect(Object.values(ind(layout, state)).filter(i => i.indicator !== null)).toEqual([])
   })
 })
 
 /** Two lines A0 > A and C0 > C merge into M (trailing turnout T in M: normal A, reverse C), M > N. */
 function trailingJunction(): Layout {
   return layoutOf({
-    blocks: ['A0', 'A', 'C0', 'C', 'M', 'N'].map((b) => block(b)),
+    blocks: ['A0', 'A', 'C0', 'C', 'M', 'N'].map(b => block(b)),
     links: links('A0>A', 'A>M', 'C0>C', 'C>M', 'M>N'),
     turnouts: [{ id: 'T', block: 'M', normal: 'A', reverse: 'C' }],
     signals: [
@@ -279,9 +279,9 @@ describe('loops', () => {
   /** L0 > L1 > L2 > L3 > L0 with a four-aspect signal at each block exit. */
   const loop = () =>
     layoutOf({
-      blocks: ['L0', 'L1', 'L2', 'L3'].map((b) => block(b)),
+      blocks: ['L0', 'L1', 'L2', 'L3'].map(b => block(b)),
       links: links('L0>L1', 'L1>L2', 'L2>L3', 'L3>L0'),
-      signals: [0, 1, 2, 3].map((i) => sig(`S${i}`, 'four-aspect', `L${i}`, `L${(i + 1) % 4}`)),
+      signals: [0, 1, 2, 3].map(i => sig(`S${i}`, 'four-aspect', `L${i}`, `L${(i + 1) % 4}`)),
     })
   it('all clear: proceed all round', () => {
     const layout = loop()
@@ -294,7 +294,7 @@ describe('loops', () => {
   })
   it('a loop with one signal: its section is the whole loop', () => {
     const layout = layoutOf({
-      blocks: ['L0', 'L1', 'L2'].map((b) => block(b)),
+      blocks: ['L0', 'L1', 'L2'].map(b => block(b)),
       links: links('L0>L1', 'L1>L2', 'L2>L0'),
       signals: [sig('S', 'three-aspect', 'L0', 'L1')],
     })
@@ -320,31 +320,31 @@ describe('signals passed at danger', () => {
     expect(again.state).toBe(ack.state)
   })
 
-  const rows: { name: string; setup: (l: Layout) => LayoutEvent[]; enter: string; alarms: string[] }[] = [
-    { name: 'danger because the section is occupied', setup: (l) => [occ(l, 'B1'), occ(l, 'B2'), clr(l, 'B2'), occ(l, 'B3')], enter: 'B2', alarms: [] },
-    { name: 'a held signal', setup: (l) => [occ(l, 'B1'), mode('S2', 'hold')], enter: 'B2', alarms: ['S2'] },
-    { name: 'caution is not danger', setup: (l) => [occ(l, 'B1'), occ(l, 'B3')], enter: 'B2', alarms: [] },
-    { name: 'proceed', setup: (l) => [occ(l, 'B1')], enter: 'B2', alarms: [] },
+  const rows: { name: string, setup: (l: Layout) => LayoutEvent[], enter: string, alarms: string[] }[] = [
+    { name: 'danger because the section is occupied', setup: l => [occ(l, 'B1'), occ(l, 'B2'), clr(l, 'B2'), occ(l, 'B3')], enter: 'B2', alarms: [] },
+    { name: 'a held signal', setup: l => [occ(l, 'B1'), mode('S2', 'hold')], enter: 'B2', alarms: ['S2'] },
+    { name: 'caution is not danger', setup: l => [occ(l, 'B1'), occ(l, 'B3')], enter: 'B2', alarms: [] },
+    { name: 'proceed', setup: l => [occ(l, 'B1')], enter: 'B2', alarms: [] },
     { name: 'no train behind: an unexpected occupancy, not a SPAD', setup: () => [mode('S2', 'hold')], enter: 'B2', alarms: [] },
   ]
   it.each(rows)('$name', ({ setup, enter, alarms }) => {
     const layout = line(3, 'three-aspect')
     const { state } = run(layout, setup(layout))
     const r = applyEvent(layout, state, occ(layout, enter))
-    expect(alarmsOf(r.changes).map((a) => a.signal)).toEqual(alarms)
+    expect(alarmsOf(r.changes).map(a => a.signal)).toEqual(alarms)
   })
 
   it('judged on the indication just before the event: a signal at danger for a train two sections ahead', () => {
     // S1's section reaches over a facing turnout with no signal on the leg: B1 and B2 (branch), danger while B2 is occupied
     const layout = layoutOf({
-      blocks: ['B0', 'B1', 'B2', 'M'].map((b) => block(b)),
+      blocks: ['B0', 'B1', 'B2', 'M'].map(b => block(b)),
       links: links('B0>B1', 'B1>B2', 'B1>M'),
       turnouts: [{ id: 'T', block: 'B1', normal: 'M', reverse: 'B2' }],
       signals: [sig('S1', 'two-aspect', 'B0', 'B1')],
     })
     const { state } = run(layout, [set('T', 'reverse'), occ(layout, 'B2'), occ(layout, 'B0')])
     expect(aspects(layout, state)).toBe('R')
-    expect(alarmsOf(applyEvent(layout, state, occ(layout, 'B1')).changes).map((a) => a.signal)).toEqual(['S1'])
+    expect(alarmsOf(applyEvent(layout, state, occ(layout, 'B1')).changes).map(a => a.signal)).toEqual(['S1'])
   })
 
   it('into a merge with trains standing on both lines: the moving train decides', () => {
@@ -360,7 +360,7 @@ describe('signals passed at danger', () => {
     const layout = trailingJunction()
     const { state } = run(layout, [set('T', 'reverse'), occ(layout, 'A', 100)])
     expect(aspects(layout, state, ['SA'])).toBe('R')
-    expect(alarmsOf(applyEvent(layout, state, occ(layout, 'M', 200)).changes).map((a) => a.signal)).toEqual(['SA'])
+    expect(alarmsOf(applyEvent(layout, state, occ(layout, 'M', 200)).changes).map(a => a.signal)).toEqual(['SA'])
   })
 
   it('unknown alarm id: an error, state unchanged', () => {
@@ -425,7 +425,7 @@ describe('train descriptions', () => {
 
   it('on a line worked both ways, the description steps in the direction the train runs', () => {
     const layout = layoutOf({
-      blocks: ['W', 'X', 'Y'].map((b) => block(b)),
+      blocks: ['W', 'X', 'Y'].map(b => block(b)),
       links: links('W>X', 'X>W', 'X>Y', 'Y>X'),
       signals: [sig('E1', 'two-aspect', 'W', 'X'), sig('E2', 'two-aspect', 'X', 'Y'), sig('W2', 'two-aspect', 'Y', 'X'), sig('W1', 'two-aspect', 'X', 'W')],
     })
@@ -474,7 +474,7 @@ describe('train descriptions', () => {
   it('does not move on across a turnout set against the route, and says the description was lost', () => {
     // trailing junction: A and C both lead into M through turnout T (normal leg A, reverse leg C)
     const layout = layoutOf({
-      blocks: ['A', 'C', 'M'].map((b) => block(b)),
+      blocks: ['A', 'C', 'M'].map(b => block(b)),
       links: links('A>M', 'C>M'),
       turnouts: [{ id: 'T', block: 'M', normal: 'A', reverse: 'C' }],
       signals: [sig('SA', 'two-aspect', 'A', 'M'), sig('SC', 'two-aspect', 'C', 'M')],
@@ -498,7 +498,7 @@ describe('train descriptions', () => {
       occ(layout, 'B1', 10),
       clr(layout, 'B0', 20),
     ])
-    expect(changes.some((c) => c.type === 'description' && c.reason === 'lost')).toBe(false)
+    expect(changes.some(c => c.type === 'description' && c.reason === 'lost')).toBe(false)
   })
 
   it('a described train that vanishes from the detectors is reported lost', () => {
@@ -525,8 +525,8 @@ describe('scale speed readings', () => {
       clr(layout, 'B0', 11_000),
       occ(layout, 'B2', 15_000),
     ])
-    const speeds = changes.filter((c) => c.type === 'speed')
-    expect(speeds.map((c) => c.type === 'speed' && [c.block, c.description, c.seconds])).toEqual([
+    const speeds = changes.filter(c => c.type === 'speed')
+    expect(speeds.map(c => c.type === 'speed' && [c.block, c.description, c.seconds])).toEqual([
       ['B0', '1F42', 10],
       ['B1', '1F42', 5],
     ])
@@ -538,7 +538,7 @@ describe('scale speed readings', () => {
   it('not measured for an undescribed train', () => {
     const layout = line(2, 'three-aspect')
     const { changes } = run(layout, [occ(layout, 'B0', 0), occ(layout, 'B1', 5000), occ(layout, 'B2', 9000)])
-    expect(changes.filter((c) => c.type === 'speed')).toEqual([])
+    expect(changes.filter(c => c.type === 'speed')).toEqual([])
   })
 })
 
@@ -550,7 +550,7 @@ describe('detectors and occupancy', () => {
       signals: [sig('S', 'two-aspect', 'A', 'B')],
     })
     const ev = (detector: string, occupied: boolean): LayoutEvent => ({ type: 'detector', detector, occupied, at: 1 })
-    const blockChanges = (c: Change[]) => c.filter((x) => x.type === 'block').map((x) => x.type === 'block' && x.occupied)
+    const blockChanges = (c: Change[]) => c.filter(x => x.type === 'block').map(x => x.type === 'block' && x.occupied)
     let s = initialState(layout)
     const steps: [LayoutEvent, boolean, (boolean | string)[]][] = [
       [ev('D1', true), true, [true]],
@@ -579,7 +579,7 @@ describe('detectors and occupancy', () => {
     const layout = facingJunction()
     const { state, changes } = run(layout, [set('T', 'normal'), set('T', 'normal'), set('T', 'reverse'), set('T', 'unknown')])
     expect(state.turnoutRevisions.T).toBe(3)
-    expect(changes.filter((c) => c.type === 'turnout').length).toBe(3)
+    expect(changes.filter(c => c.type === 'turnout').length).toBe(3)
   })
 })
 

@@ -1,16 +1,15 @@
 // Checks of the signalling engine and scale speed against outside sources. Each check names its source.
 // Aspects are written R (danger), Y (caution), YY (preliminary caution), G (proceed).
 import { describe, expect, it } from 'vitest'
-import { SCALES, scaleSpeed } from '#shared/signalling'
+import { SCALES, scaleSpeed, initialState } from '#shared/signalling'
 import { alarmsOf, aspects, block, clr, ind, line, mode, occ, run, set, valid, withOccupied } from './build'
-import { initialState } from '#shared/signalling'
 
 describe('British multiple-aspect sequences', () => {
   // Network Rail Safety Central, Jargon Buster "Four aspect signal": red = next section contains a train;
   // single yellow = next section clear, train in the following one; double yellow = next two sections clear,
   // train in the one beyond; green = next three sections clear. RSSB RS521 §2.2 gives the same sequence.
   // The three- and two-aspect columns drop aspects from the four-aspect sequence: from memory.
-  const table: { clear: number; four: string; three: string; two: string }[] = [
+  const table: { clear: number, four: string, three: string, two: string }[] = [
     { clear: 0, four: 'R', three: 'R', two: 'R' },
     { clear: 1, four: 'Y', three: 'Y', two: 'G' },
     { clear: 2, four: 'YY', three: 'G', two: 'G' },
@@ -118,7 +117,7 @@ function junction(kind: 'three-aspect' | 'four-aspect') {
     schema: 1,
     name: 'junction',
     scale: { name: 'OO', ratio: 76.2 },
-    blocks: ids.map((id) => block(id)),
+    blocks: ids.map(id => block(id)),
     links,
     turnouts: [{ id: 'T', block: 'B3', normal: 'B4m', reverse: 'B4d' }],
     signals: [
@@ -166,18 +165,18 @@ describe('North American three- and four-indication automatic block signals', ()
   const names: Record<string, string> = { R: 'Stop and Proceed', Y: 'Approach', YY: 'Advance Approach', G: 'Clear' }
   it('three-indication: Clear, Clear, Approach, Stop and Proceed towards a train', () => {
     const layout = line(4, 'three-aspect')
-    const got = aspects(layout, withOccupied(layout, ['B4'])).split(' ').map((a) => names[a])
+    const got = aspects(layout, withOccupied(layout, ['B4'])).split(' ').map(a => names[a])
     expect(got).toEqual(['Clear', 'Clear', 'Approach', 'Stop and Proceed'])
   })
   it('four-indication: Clear, Advance Approach, Approach, Stop and Proceed towards a train', () => {
     const layout = line(4, 'four-aspect')
-    const got = aspects(layout, withOccupied(layout, ['B4'])).split(' ').map((a) => names[a])
+    const got = aspects(layout, withOccupied(layout, ['B4'])).split(' ').map(a => names[a])
     expect(got).toEqual(['Clear', 'Advance Approach', 'Approach', 'Stop and Proceed'])
   })
 })
 
 describe('Scale ratios', () => {
-  const ratio = (name: string) => SCALES.find((s) => s.name === name)?.ratio
+  const ratio = (name: string) => SCALES.find(s => s.name === name)?.ratio
   // NMRA Standard S-1.2 defines these scales; the ratios below are as restated by crazymodeltrains.com,
   // modeltrainshop.co.za and reginarailwaymodellers.org (the sheet's exact wording is from memory).
   it.each([
@@ -195,7 +194,7 @@ describe('Scale ratios', () => {
     ['Z', 220],
   ])('%s is 1:%d', (name, want) => {
     expect(ratio(name)).toBe(want)
-    expect(SCALES.find((s) => s.name === name)!.source.length).toBeGreaterThan(0)
+    expect(SCALES.find(s => s.name === name)!.source.length).toBeGreaterThan(0)
   })
   it('the OO and HO ratios follow from millimetres per foot', () => {
     // 1 ft = 304.8 mm exactly (international foot)

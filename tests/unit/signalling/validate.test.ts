@@ -41,91 +41,98 @@ describe('validateLayout', () => {
     expect(minimal.ok && minimal.layout.diagram).toEqual({ width: 1280, height: 800, blocks: {}, signals: {}, turnouts: {}, labels: [] })
   })
 
-  const rows: [string, (d: Record<string, any>) => void, { path: string; message: RegExp }][] = [
-    ['wrong schema number', (d) => (d.schema = 2), { path: 'schema', message: /schema must be 1/ }],
-    ['negative length', (d) => (d.blocks[1].lengthMm = -5), { path: 'blocks[1].lengthMm', message: /positive/ }],
-    ['id with a slash', (d) => (d.blocks[0].id = 'A/1'), { path: 'blocks[0].id', message: /an id is/ }],
-    ['bad signal kind', (d) => (d.signals[0].kind = 'five-aspect'), { path: 'signals[0].kind', message: /./ }],
-    ['duplicate block id', (d) => d.blocks.push(block('A')), { path: 'blocks[4].id', message: /duplicate block id "A" \(also blocks\[0\]\)/ }],
+  const rows: [string, (d: Record<string, any>) => void, { path: string, message: RegExp }][] = [
+    ['wrong schema number', d => (d.schema = 2), { path: 'schema', message: /schema must be 1/ }],
+    ['negative length', d => (d.blocks[1].lengthMm = -5), { path: 'blocks[1].lengthMm', message: /positive/ }],
+    ['id with a slash', d => (d.blocks[0].id = 'A/1'), { path: 'blocks[0].id', message: /an id is/ }],
+    ['bad signal kind', d => (d.signals[0].kind = 'five-aspect'), { path: 'signals[0].kind', message: /./ }],
+    ['duplicate block id', d => d.blocks.push(block('A')), { path: 'blocks[4].id', message: /duplicate block id "A" \(also blocks\[0\]\)/ }],
     [
       'duplicate signal id',
-      (d) => d.signals.push({ ...d.signals[0], from: 'B', protects: 'C', indicators: undefined }),
+      d => d.signals.push({ ...d.signals[0], from: 'B', protects: 'C', indicators: undefined }),
       { path: 'signals[1].id', message: /duplicate signal id "S"/ },
     ],
-    ['link to an unknown block', (d) => d.links.push({ from: 'C', to: 'Z' }), { path: 'links[3].to', message: /unknown block "Z"/ }],
-    ['link to itself', (d) => d.links.push({ from: 'C', to: 'C' }), { path: 'links[3]', message: /to itself/ }],
-    ['duplicate link', (d) => d.links.push({ from: 'A', to: 'B' }), { path: 'links[3]', message: /duplicate link "A" -> "B"/ }],
-    ['signal from an unknown block', (d) => (d.signals[0].from = 'Q'), { path: 'signals[0].from', message: /unknown block "Q"/ }],
+    ['link to an unknown block', d => d.links.push({ from: 'C', to: 'Z' }), { path: 'links[3].to', message: /unknown block "Z"/ }],
+    ['link to itself', d => d.links.push({ from: 'C', to: 'C' }), { path: 'links[3]', message: /to itself/ }],
+    ['duplicate link', d => d.links.push({ from: 'A', to: 'B' }), { path: 'links[3]', message: /duplicate link "A" -> "B"/ }],
+    ['signal from an unknown block', d => (d.signals[0].from = 'Q'), { path: 'signals[0].from', message: /unknown block "Q"/ }],
     [
       'signal whose from -> protects is not a link',
-      (d) => (d.signals[0].protects = 'C'),
+      d => (d.signals[0].protects = 'C'),
       { path: 'signals[0].protects', message: /"A" -> "C" is not a link/ },
     ],
     [
       'two stop signals at one place',
-      (d) => d.signals.push({ id: 'S2', name: 'S2', kind: 'two-aspect', from: 'A', protects: 'B' }),
+      d => d.signals.push({ id: 'S2', name: 'S2', kind: 'two-aspect', from: 'A', protects: 'B' }),
       { path: 'signals[1]', message: /signals\[0\] already stands at the exit of "A"/ },
     ],
-    ['turnout in an unknown block', (d) => (d.turnouts[0].block = 'Q'), { path: 'turnouts[0].block', message: /unknown block "Q"/ }],
+    ['turnout in an unknown block', d => (d.turnouts[0].block = 'Q'), { path: 'turnouts[0].block', message: /unknown block "Q"/ }],
     [
       'turnout leg that is not a link of its block',
-      (d) => (d.turnouts[0].reverse = 'A2') && d.blocks.push(block('A2')),
+      (d) => {
+        d.turnouts[0].reverse = 'A2'
+        d.blocks.push(block('A2'))
+      },
       { path: 'turnouts[0].reverse', message: /"A2" is not linked to the turnout's block "B"/ },
     ],
-    ['turnout legs the same', (d) => (d.turnouts[0].reverse = 'C'), { path: 'turnouts[0].reverse', message: /same block/ }],
+    ['turnout legs the same', d => (d.turnouts[0].reverse = 'C'), { path: 'turnouts[0].reverse', message: /same block/ }],
     [
       'unresolved fork',
-      (d) => (d.turnouts = []) && (d.areas[0].turnouts = []) && (d.diagram.turnouts = {}),
+      (d) => {
+        d.turnouts = []
+        d.areas[0].turnouts = []
+        d.diagram.turnouts = {}
+      },
       { path: 'blocks[1]', message: /block "B" forks to "C" and "D" for a train arriving from "A" with no turnout/ },
     ],
     [
       'more than two ways on',
-      (d) => d.blocks.push(block('E')) && d.links.push({ from: 'B', to: 'E' }),
+      d => d.blocks.push(block('E')) && d.links.push({ from: 'B', to: 'E' }),
       { path: 'blocks[1]', message: /block "B" has 3 ways on \(C, D, E\).*at most two/ },
     ],
     [
       'unresolved merge',
-      (d) => d.blocks.push(block('E')) && d.links.push({ from: 'E', to: 'C' }),
+      d => d.blocks.push(block('E')) && d.links.push({ from: 'E', to: 'C' }),
       { path: 'blocks[2]', message: /trains from "B" and "E" merge in block "C" with no turnout/ },
     ],
     [
       'detector used by two blocks',
-      (d) => (d.blocks[2].detectors = ['dA']),
+      d => (d.blocks[2].detectors = ['dA']),
       { path: 'blocks[2].detectors[0]', message: /detector "dA" is already used by block "A"/ },
     ],
     [
       'junction indicator on a leg that is not a facing leg of the route',
-      (d) => (d.signals[0].indicators = { A: '1' }),
+      d => (d.signals[0].indicators = { A: '1' }),
       { path: 'signals[0].indicators.A', message: /not a leg of a facing turnout on this signal's routes/ },
     ],
-    ['area naming an unknown signal', (d) => d.areas[0].signals.push('S9'), { path: 'areas[0].signals[1]', message: /unknown signal "S9"/ }],
-    ['area naming an unknown turnout', (d) => d.areas[0].turnouts.push('T9'), { path: 'areas[0].turnouts[1]', message: /unknown turnout "T9"/ }],
+    ['area naming an unknown signal', d => d.areas[0].signals.push('S9'), { path: 'areas[0].signals[1]', message: /unknown signal "S9"/ }],
+    ['area naming an unknown turnout', d => d.areas[0].turnouts.push('T9'), { path: 'areas[0].turnouts[1]', message: /unknown turnout "T9"/ }],
     [
       'signal in two areas',
-      (d) => d.areas.push({ id: 'y', name: 'Y', signals: ['S'], turnouts: [] }),
+      d => d.areas.push({ id: 'y', name: 'Y', signals: ['S'], turnouts: [] }),
       { path: 'areas[1].signals[0]', message: /already in area "x"/ },
     ],
     [
       'diagram entry for an unknown block',
-      (d) => (d.diagram.blocks.Z = { path: [[0, 0], [1, 1]] }),
+      d => (d.diagram.blocks.Z = { path: [[0, 0], [1, 1]] }),
       { path: 'diagram.blocks.Z', message: /unknown block "Z"/ },
     ],
     [
       'diagram entry for an unknown signal',
-      (d) => (d.diagram.signals.S9 = { at: [1, 1], facing: 'left' }),
+      d => (d.diagram.signals.S9 = { at: [1, 1], facing: 'left' }),
       { path: 'diagram.signals.S9', message: /unknown signal "S9"/ },
     ],
     [
       'diagram entry for an unknown turnout',
-      (d) => (d.diagram.turnouts.T9 = { at: [1, 1] }),
+      d => (d.diagram.turnouts.T9 = { at: [1, 1] }),
       { path: 'diagram.turnouts.T9', message: /unknown turnout "T9"/ },
     ],
     [
       'diagram point outside the drawing',
-      (d) => (d.diagram.blocks.A.path[1] = [500, 10]),
+      d => (d.diagram.blocks.A.path[1] = [500, 10]),
       { path: 'diagram.blocks.A.path[1]', message: /outside the 400 x 200 drawing/ },
     ],
-    ['diagram path of one point', (d) => (d.diagram.blocks.A.path = [[0, 0]]), { path: 'diagram.blocks.A.path', message: /at least two points/ }],
+    ['diagram path of one point', d => (d.diagram.blocks.A.path = [[0, 0]]), { path: 'diagram.blocks.A.path', message: /at least two points/ }],
   ]
   it.each(rows)('%s', (_name, edit, want) => {
     const d = base()
@@ -141,7 +148,7 @@ describe('validateLayout', () => {
       schema: 1,
       name: 'single line',
       scale: { name: 'OO', ratio: 76.2 },
-      blocks: ['X', 'Y', 'Z', 'P', 'Q'].map((b) => block(b)),
+      blocks: ['X', 'Y', 'Z', 'P', 'Q'].map(b => block(b)),
       links: [
         { from: 'X', to: 'Y' },
         { from: 'Y', to: 'X' },
@@ -154,14 +161,14 @@ describe('validateLayout', () => {
     }
     expect(errorsOf(def)).toEqual([])
     // without the turnout, a train from Y could go to Q, and one from P to Y: trains merge and fork unchecked
-    expect(errorsOf({ ...def, turnouts: [] }).map((e) => e.path)).toEqual(['blocks[2]', 'blocks[2]'])
+    expect(errorsOf({ ...def, turnouts: [] }).map(e => e.path)).toEqual(['blocks[2]', 'blocks[2]'])
   })
 
   it('reports several mistakes at once', () => {
     const d = base()
     d.links.push({ from: 'C', to: 'Z' })
     d.areas[0].signals.push('S9')
-    expect(errorsOf(d).map((e) => e.path)).toEqual(['links[3].to', 'areas[0].signals[1]'])
+    expect(errorsOf(d).map(e => e.path)).toEqual(['links[3].to', 'areas[0].signals[1]'])
   })
 })
 
