@@ -36,6 +36,8 @@ export default defineNuxtConfig({
   },
   dir: { app: 'app' },
   srcDir: '.',
+  // Photo uploads check their own size (10 MB) and say so; other bodies keep nuxt-security's limits.
+  routeRules: { '/api/uploads': { security: { requestSizeLimiter: false } } },
   compatibilityDate: '2025-07-15',
   nitro: {
     experimental: { websocket: true },
@@ -43,8 +45,6 @@ export default defineNuxtConfig({
     storage: { uploads: { driver: 'fs', base: './.data/uploads' } },
     errorHandler: ['~/server/error-handler', nuxtErrorHandler],
   },
-  // Photo uploads check their own size (10 MB) and say so; other bodies keep nuxt-security's limits.
-  routeRules: { '/api/uploads': { security: { requestSizeLimiter: false } } },
   typescript: { strict: true },
   telemetry: false,
   auth: { hash: { scrypt: SCRYPT_OPTIONS } },
