@@ -7,6 +7,7 @@ import { parseOptions, USAGE, type FakeOptions } from './options'
 import type { StepResult } from './output'
 import { ScriptPlayer } from './script'
 import { Simulation } from './simulation'
+import { readTurnoutMemory, turnoutMemoryWriter } from './turnout-memory'
 import { areaOf, HARDWARE_FILTERS, layoutPrefix, layoutTopic, relative, signalOf, turnoutSetOf } from '#shared/live/topics'
 
 /**
@@ -41,14 +42,22 @@ function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log): Mode {
   log(`seed ${seed} (repeat this run with --seed ${seed}); trains: ${source}`)
   if (plans.length === 0) log('no trains: the layout has no round trip a train could run')
   if (o.ignoreSignals) log('ignoring signals: trains only keep clear of each other')
+  const memory = o.turnoutMemory ? readTurnoutMemory(o.turnoutMemory, layout) : null
+  if (memory) log(memory.note)
   const sim = new Simulation(layout, plans, {
     seed, spadChance: o.spadChance, dropoutChance: o.dropoutChance, speedFactor: o.speedFactor, ignoreSignals: o.ignoreSignals,
+    turnouts: memory?.positions,
   })
+  const remember = memory && o.turnoutMemory ? turnoutMemoryWriter(o.turnoutMemory, memory.positions) : null
   const aspects: Record<string, Aspect> = {}
   const badSignals = new Set<string>()
   const emit = (r: StepResult) => {
     for (const l of r.log) log(l.text)
-    for (const p of r.publishes) send(p)
+    for (const p of r.publishes) {
+      send(p)
+      const thrown = /^turnout\/([^/]+)$/.exec(p.topic)
+      if (remember && thrown && (p.payload === 'normal' || p.payload === 'reverse')) remember(thrown[1]!, p.payload)
+    }
   }
   let timer: NodeJS.Timeout | undefined
   return {

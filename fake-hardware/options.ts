@@ -18,6 +18,8 @@ Options (environment variable in brackets):
   --dropout-chance <p>     chance of a brief detector dropout (dirty track) per block entered (BLOCKBELL_FAKE_DROPOUT_CHANCE; default 0.05)
   --speed-factor <x>       run trains (and scripts) x times faster (BLOCKBELL_FAKE_SPEED_FACTOR; default 1)
   --ignore-signals         run on block occupancy alone, without Blockbell publishing signal indications
+  --turnout-memory <file>  keep the turnouts' positions in this file and start from them next time, as real
+                           turnouts stay where they were left (BLOCKBELL_FAKE_TURNOUT_MEMORY; default: start normal)
   --stop-after <ms>        stop after this many ms (default: run until Ctrl-C)
   --help                   this text
 
@@ -35,6 +37,7 @@ export interface FakeOptions {
   dropoutChance: number
   speedFactor: number
   ignoreSignals: boolean
+  turnoutMemory: string | null
   stopAfterMs: number | null
   mqttUrl: string
   username: string
@@ -61,6 +64,7 @@ export function parseOptions(argv: readonly string[], env: Readonly<Record<strin
         'dropout-chance': { type: 'string' },
         'speed-factor': { type: 'string' },
         'ignore-signals': { type: 'boolean' },
+        'turnout-memory': { type: 'string' },
         'stop-after': { type: 'string' },
         'help': { type: 'boolean' },
       },
@@ -103,6 +107,7 @@ export function parseOptions(argv: readonly string[], env: Readonly<Record<strin
     dropoutChance: num('dropout-chance', 'BLOCKBELL_FAKE_DROPOUT_CHANCE', 0.05, n => n >= 0 && n <= 1, 'a chance from 0 to 1'),
     speedFactor: num('speed-factor', 'BLOCKBELL_FAKE_SPEED_FACTOR', 1, n => n > 0 && n <= 100, 'a number above 0, at most 100'),
     ignoreSignals: values['ignore-signals'] === true,
+    turnoutMemory: str('turnout-memory', 'BLOCKBELL_FAKE_TURNOUT_MEMORY') ?? null,
     stopAfterMs: str('stop-after') === undefined ? null : num('stop-after', undefined, 0, n => n > 0, 'a positive number of ms'),
     mqttUrl: env.MQTT_URL || `mqtt://127.0.0.1:${port}`,
     username: env.BLOCKBELL_FAKE_MQTT_USERNAME || 'fake-layout',

@@ -39,6 +39,13 @@ export interface SimulationOptions {
   speedVariation?: number
   /** Simulation tick in ms; `step` cuts longer steps into ticks. Default 10. */
   tickMs?: number
+  /**
+   * Where the turnouts lie at the start (the rest lie normal). Given, the first routes are set only as the
+   * locks allow, as at any other time: Blockbell already knows these positions, and moving a locked turnout
+   * at start-up would be a move under a lock. Without it (a layout seen for the first time), the first routes
+   * are set before anything is reported.
+   */
+  turnouts?: Record<string, 'normal' | 'reverse'>
 }
 
 export type TrainMode = 'running' | 'waiting' | 'dwelling' | 'lifting'
@@ -128,6 +135,7 @@ export class Simulation {
   /** Why each turnout a train wanted could not be set, for the wait reason. */
   private readonly notSetWhy = new Map<string, string>()
   private starting = false
+  private readonly resumed: boolean
   private aspects: Readonly<Record<string, Aspect>> = {}
   private dropouts: Dropout[] = []
   private now = 0
@@ -142,7 +150,8 @@ export class Simulation {
     this.ignoreSignals = options.ignoreSignals ?? false
     this.speedVariation = options.speedVariation ?? 0.1
     this.tickMs = options.tickMs ?? 10
-    for (const t of layout.turnouts) this.positions.set(t.id, 'normal')
+    for (const t of layout.turnouts) this.positions.set(t.id, options.turnouts?.[t.id] ?? 'normal')
+    this.resumed = options.turnouts !== undefined
     for (const a of layout.areas) for (const t of a.turnouts) if (!this.areaOfTurnout.has(t)) this.areaOfTurnout.set(t, a.id)
     this.trains = plans.map((plan) => {
       const baseSpeed = modelMmPerSecond(plan.speedKmh, layout.scale.ratio) * this.speedFactor
@@ -190,7 +199,7 @@ export class Simulation {
       for (const b of blocks) this.owner.set(b, t)
     }
     // first routes are set before anything is reported: Blockbell then sees them already lying so
-    this.starting = true
+    this.starting = !this.resumed
     const claims = new Output()
     for (const t of this.trains) this.claimAhead(t, claims)
     this.starting = false

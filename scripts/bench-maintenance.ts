@@ -57,7 +57,7 @@ try {
   // journal batches as the live side writes them (200 rows, 60 % block moves), with the tally trigger and without
   let n = 0
   const batch = () => Array.from({ length: 200 }, (_, i) => ({
-    seq: n, key: `bench-${n++}`, layoutId: layout.id, sessionId: null, at: Date.now() + i, userId: null,
+    seq: n, key: `bench-${n++}`, layoutId: layout.id, sessionId: null, at: Date.now() + i, userId: null, epoch: null,
     type: i % 10 < 6 ? 'block' : 'indication', subject: `B${i % BLOCKS}`,
     payloadJson: i % 10 < 6 ? JSON.stringify({ type: 'block', occupied: (n / BLOCKS) % 2 < 1 }) : '{}',
   }))

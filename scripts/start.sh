@@ -71,7 +71,7 @@ SERVER_PID=$!
 wait_for_http "http://127.0.0.1:$WEB_PORT/api/health" 60 || die "The server did not answer on port $WEB_PORT"
 
 # The fake layout stands in for the hardware: trains, detectors and turnouts over MQTT.
-MQTT_URL="${MQTT_URL:-mqtt://127.0.0.1:$MQTT_PORT}" sh -c 'exec ./node_modules/.bin/tsx fake-hardware/index.ts' > "$DATA_DIR/fake-layout.log" 2>&1 &
+BLOCKBELL_FAKE_TURNOUT_MEMORY="$DATA_DIR/fake-layout-turnouts.json" MQTT_URL="${MQTT_URL:-mqtt://127.0.0.1:$MQTT_PORT}" sh -c 'exec ./node_modules/.bin/tsx fake-hardware/index.ts' > "$DATA_DIR/fake-layout.log" 2>&1 &
 FAKE_PID=$!
 log "Fake layout running (log: .data/fake-layout.log)"
 

@@ -57,7 +57,7 @@ beforeAll(async () => {
     { type: 'description', subject: 'UM1', at: T0 + 1000, payloadJson: '{"type":"description","description":"2H07","reason":"interpose"}' },
     { type: 'block', subject: 'UM1', at: T0 + 9000, payloadJson: '{"type":"block","occupied":false}' },
     { type: 'description', subject: 'UM1', at: T0 + 9000, payloadJson: '{"type":"description","description":null,"reason":"clear"}' },
-  ].map((e, i) => ({ ...e, seq: i, key: `digest-${i}`, layoutId: layout.id, sessionId: null, userId: null })))
+  ].map((e, i) => ({ ...e, seq: i, key: `digest-${i}`, layoutId: layout.id, sessionId: null, userId: null, epoch: null })))
   // UM1 is due at one passage; no days threshold, so the never-cleaned blocks are not "due soon"
   await setCleaningThresholds(db.sequelize, layout.id, { passages: 1, occupiedHours: null, dropouts: null, days: null })
   await createMaintenanceTask(db.sequelize, layout.id, { title: 'Replace the platform lamp bulb', assigneeId: tam.id, dueOn: '2026-12-05' })

@@ -136,7 +136,7 @@ describe('track cleaning counters', () => {
       if (!dropout) occupied.set(block, next)
       return {
         layoutId: other.id, sessionId: i % 3 === 0 ? session.id : null, at: T0 + i * 5_000 + Math.floor(rand() * 3_000),
-        type: dropout ? 'dropout' : 'block', subject: block, userId: null, key: `tally-${i}`,
+        type: dropout ? 'dropout' : 'block', subject: block, userId: null, epoch: null, key: `tally-${i}`,
         payloadJson: JSON.stringify(dropout ? { type: 'dropout' } : { type: 'block', occupied: next }),
       }
     })

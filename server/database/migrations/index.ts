@@ -5,6 +5,7 @@ import * as mailInvitationsResets from './0005-mail-invitations-resets'
 import * as operatingSessionReview from './0006-operating-session-review'
 import * as layoutEditing from './0007-layout-editing'
 import * as trackCleaning from './0010-track-cleaning'
+import * as layoutOwners from './0011-layout-owners'
 import * as blockTallies from './0012-block-tallies'
 import * as uploads from './0013-uploads'
 import * as stockTasksDigests from './0014-stock-tasks-digests'
@@ -21,6 +22,7 @@ export const migrations = [
   { name: '0006-operating-session-review', ...operatingSessionReview },
   { name: '0007-layout-editing', ...layoutEditing },
   { name: '0010-track-cleaning', ...trackCleaning },
+  { name: '0011-layout-owners', ...layoutOwners },
   { name: '0012-block-tallies', ...blockTallies },
   { name: '0013-uploads', ...uploads },
   { name: '0014-stock-tasks-digests', ...stockTasksDigests },

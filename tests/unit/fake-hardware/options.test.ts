@@ -10,7 +10,7 @@ describe('parseOptions', () => {
       ok: true,
       options: {
         layout: 'shared/layouts/demo-layout.json', slug: 'wrenfold', seed: null, trains: null, trainCount: 4, script: null,
-        spadChance: 0.02, dropoutChance: 0.05, speedFactor: 1, ignoreSignals: false, stopAfterMs: null,
+        spadChance: 0.02, dropoutChance: 0.05, speedFactor: 1, ignoreSignals: false, turnoutMemory: null, stopAfterMs: null,
         mqttUrl: 'mqtt://127.0.0.1:18830', username: 'fake-layout', password: 'fake-layout-demo',
       },
     })

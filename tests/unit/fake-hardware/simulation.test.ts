@@ -218,6 +218,54 @@ describe('interlocking', () => {
   })
 })
 
+describe('a restarted fake layout', () => {
+  // Blockbell keeps running while the layout is switched off and on again. Real turnouts stay where they were
+  // left; a fake layout that started them all normal again would move locked turnouts under Blockbell's eyes.
+  function restart(remembered: boolean) {
+    const layout = demoLayout()
+    const plans = demoPlans().filter(p => p.headcode === '1F42' || p.headcode === '6M50')
+    const engine = createEngine(layout)
+    const aspects = () => Object.fromEntries(Object.entries(engine.indications()).map(([id, i]) => [id, i.aspect]))
+    let clock = 0
+    const feedAll = (ps: Publish[]) => { for (const p of ps) feed(engine, p, clock + p.at + 1) }
+    // the first run: once 1F42 is away, a signaller holds SF1, so T5 is set reverse for 6M50, which runs out
+    // over it onto UM1 (as in "once SF1 is held" above)
+    const first = new Simulation(layout, plans, { seed: 13, spadChance: 0, dropoutChance: 0 })
+    feedAll(first.start().publishes)
+    let held = false
+    for (let t = 0; t < 900_000 && !(engine.state().turnouts.T5 === 'reverse' && engine.state().occupied.UM1); t += 50) {
+      if (!held && first.view()[0]!.blocks.every(b => b !== 'FY1' && b !== 'UM1') && first.time() > 20_000) {
+        held = true
+        engine.apply({ type: 'override', signal: 'SF1', mode: 'hold', at: first.time() })
+        first.setOverride('SF1', 'hold')
+      }
+      feedAll(first.step(50, aspects()).publishes)
+    }
+    const left = first.turnoutPositions()
+    // switched off with 6M50 on UM1, over T5 reverse; on again with the trains back at their start
+    clock = first.time() + 1000
+    const before = engine.state().alarms.length
+    const sim = new Simulation(layout, plans, { seed: 14, spadChance: 0, dropoutChance: 0, ...(remembered ? { turnouts: left } : {}) })
+    sim.setOverride('SF1', 'hold')
+    const start = sim.start().publishes
+    feedAll(start)
+    for (let t = 0; t < 120_000; t += 50) feedAll(sim.step(50, aspects()).publishes)
+    return { left, start, lockAlarms: engine.state().alarms.slice(before).filter(a => a.kind === 'turnout-under-lock') }
+  }
+
+  it('starts from the positions it kept: it reports them, and Blockbell sees no move under a lock', { timeout: 60_000 }, () => {
+    const r = restart(true)
+    expect(r.left.T5).toBe('reverse') // the first run left T5 reverse
+    const reported = Object.fromEntries(r.start.filter(p => /^turnout\/[^/]+$/.test(p.topic)).map(p => [p.topic.slice('turnout/'.length), p.payload]))
+    expect(reported.T5).toBe('reverse')
+    expect(r.lockAlarms).toEqual([])
+  })
+
+  it('started afresh instead (every turnout normal), it moves turnouts under a lock: the reason for keeping them', { timeout: 60_000 }, () => {
+    expect(restart(false).lockAlarms.length).toBeGreaterThan(0)
+  })
+})
+
 describe('keeping trains apart', () => {
   it.each([
     ['obeying signals, spad chance 1', { spadChance: 1, dropoutChance: 0.3 }],
