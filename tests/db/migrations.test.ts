@@ -26,7 +26,7 @@ describe('migrations', () => {
   it('apply from an empty database and create every table', async () => {
     const done = await createMigrator(db.sequelize).up()
     expect(done.map(m => m.name)).toEqual(migrations.map(m => m.name))
-    expect(await tableNames()).toEqual(['cleaning_thresholds', 'cleanings', 'devices', 'ended_sessions', 'events', 'invitations', 'layout_owners', 'layout_versions', 'layout_wiring', 'layouts', 'migrations', 'operating_sessions', 'outbox', 'password_resets', 'session_checkpoints', 'users'])
+    expect(await tableNames()).toEqual(['block_tallies', 'cleaning_thresholds', 'cleanings', 'devices', 'ended_sessions', 'events', 'invitations', 'layout_owners', 'layout_versions', 'layout_wiring', 'layouts', 'maintenance_task_log', 'maintenance_tasks', 'migrations', 'operating_sessions', 'outbox', 'password_resets', 'sent_digests', 'session_checkpoints', 'stock_items', 'stock_runs', 'stock_services', 'uploads', 'users'])
   })
 
   it('index the journal for time-range and per-session queries', async () => {
