@@ -59,3 +59,92 @@ function trimBreaks(points: ([number, number] | null)[]): ([number, number] | nu
   while (points.length && points[points.length - 1] === null) points.pop()
   return points
 }
+
+type Point = [number, number]
+
+/**
+ * The part of a line inside [from, to], with the last point before and the first point after it kept so the
+ * line still runs to the window's edges. Breaks (null) stay where they were.
+ */
+export function clipLine(points: (Point | null)[], from: number, to: number): (Point | null)[] {
+  const out: (Point | null)[] = []
+  for (const segment of segments(points)) {
+    const kept: Point[] = []
+    segment.forEach((p, i) => {
+      const inside = p[0] >= from && p[0] <= to
+      const leadsIn = p[0] < from && (segment[i + 1]?.[0] ?? -Infinity) >= from
+      const leadsOut = p[0] > to && (segment[i - 1]?.[0] ?? Infinity) <= to
+      if (inside || leadsIn || leadsOut) kept.push(p)
+    })
+    if (kept.length) out.push(...(out.length ? [null] : []), ...kept)
+  }
+  return out
+}
+
+/**
+ * Thins a line to what `columns` pixel columns across [from, to] can show, by M4 aggregation (U. Jugel et al.,
+ * "M4: A Visualization-Oriented Time Series Data Aggregation", PVLDB 7(10), 2014): in each column it keeps the
+ * first and the last point and those of least and greatest distance, and a line through those draws the same
+ * pixels as one through every point. Every point kept is one of the originals; each stretch between breaks is
+ * thinned on its own, so the breaks stay; of points standing alone (drawn as dots) at the same distance in one
+ * column, the first is kept.
+ */
+export function thinLine(points: (Point | null)[], from: number, to: number, columns: number): (Point | null)[] {
+  const span = Math.max(1, to - from)
+  const column = (t: number) => Math.floor((t - from) / span * columns)
+  const out: (Point | null)[] = []
+  const lone = new Set<string>()
+  for (const segment of segments(points)) {
+    if (segment.length === 1) {
+      // a point standing alone is a dot: one dot per column and distance is what shows
+      const key = `${column(segment[0]![0])}:${segment[0]![1]}`
+      if (lone.has(key)) continue
+      lone.add(key)
+    }
+    const kept = new Set<number>()
+    let start = 0
+    while (start < segment.length) {
+      const c = column(segment[start]![0])
+      let end = start
+      let low = start
+      let high = start
+      while (end + 1 < segment.length && column(segment[end + 1]![0]) === c) {
+        end++
+        if (segment[end]![1] < segment[low]![1]) low = end
+        if (segment[end]![1] > segment[high]![1]) high = end
+      }
+      kept.add(start).add(low).add(high).add(end)
+      start = end + 1
+    }
+    if (out.length) out.push(null)
+    out.push(...[...kept].sort((a, b) => a - b).map(i => segment[i]!))
+  }
+  return out
+}
+
+function segments(points: (Point | null)[]): Point[][] {
+  const all: Point[][] = [[]]
+  for (const p of points) {
+    if (p) all[all.length - 1]!.push(p)
+    else if (all[all.length - 1]!.length) all.push([])
+  }
+  return all.filter(s => s.length)
+}
+
+/** The graph as drawn `columns` pixels wide over [from, to]: lines clipped to the window and thinned (M4). */
+export function fitGraph(graph: GraphData, from: number, to: number, columns: number): GraphData {
+  let total = 0
+  let shown = 0
+  const trains = graph.trains.map((t) => {
+    const clipped = clipLine(t.points, from, to)
+    const thinned = thinLine(clipped, from, to, columns)
+    total += clipped.filter(Boolean).length
+    shown += thinned.filter(Boolean).length
+    return { description: t.description, points: thinned }
+  }).filter(t => t.points.length)
+  return {
+    ...graph, trains, from, to,
+    dangerPasses: graph.dangerPasses.filter(d => d.at >= from && d.at <= to),
+    thinning: shown < total ? { columns, points: total, shown } : null,
+  }
+}

@@ -277,6 +277,52 @@ describe('a scripted session', () => {
   })
 })
 
+describe('a session reviewed after its layout changed', () => {
+  it('replays, draws and names the layout version the session ran on, not the one saved afterwards', async () => {
+    const wrenfold = (await admin.get('/api/layouts')).body.layouts.find((l: { slug: string }) => l.slug === 'wrenfold')
+    const copy = await admin.post('/api/layouts', { name: 'Wrenfold version check', copyOf: wrenfold.id })
+    expect(copy.status).toBe(201)
+    const slug = copy.body.slug as string
+    try {
+      // a new layout's runtime starts at once, but not in the same turn as the reply
+      let started: { status: number, body: { id: number } } | undefined
+      await expect.poll(async () => {
+        started = await signaller.post('/api/sessions', { layout: slug, name: 'Before the siding', fastClockRatio: 1 })
+        return started.status
+      }, { timeout: 5000 }).toBe(201)
+      const session = started!.body.id
+      await device.publishAsync(`blockbell/v1/${slug}/detector/D02`, '1')
+      await settle()
+      const occupiedAt = Date.now()
+      await device.publishAsync(`blockbell/v1/${slug}/detector/D02`, '0')
+      await settle()
+      expect((await signaller.post(`/api/sessions/${session}/end`)).status).toBe(200)
+
+      // afterwards the layout gets a new version: a longer UM2 and a new siding
+      const current = (await admin.get(`/api/layouts/${copy.body.id}`)).body.layout
+      const definition = structuredClone(current.definition)
+      definition.blocks.find((b: { id: string }) => b.id === 'UM2').lengthMm = 2500
+      definition.blocks.push({ id: 'XS1', name: 'Spare siding', lengthMm: 900, detectors: ['D99'] })
+      const saved = await admin.request('PUT', `/api/layouts/${copy.body.id}`, { definition, baseVersion: current.version })
+      expect(saved.body).toMatchObject({ version: current.version + 1, current: true })
+
+      const review = (await viewer.get(`/api/sessions/${session}`)).body.session
+      expect(review).toMatchObject({ layoutVersion: current.version, layoutVersionRecorded: true })
+      expect(review.definition.blocks.map((b: { id: string }) => b.id)).not.toContain('XS1')
+      expect(review.blocks.find((b: { id: string }) => b.id === 'UM2').lengthMm).toBe(1500)
+      const replay = (await viewer.get(`/api/sessions/${session}/replay?at=${occupiedAt}`)).body
+      expect(replay.state.occupied).toMatchObject({ UM2: true })
+      expect(Object.keys(replay.state.occupied).sort()).toEqual(review.definition.blocks.map((b: { id: string }) => b.id).sort())
+      // UM3 starts where the 1,500 mm UM2 of the session's version ends (demo-layout.json lengths)
+      const graph = (await viewer.get(`/api/sessions/${session}/graph?route=UM1,UM2,UM3`)).body
+      expect(graph.route.map((b: { startMm: number }) => b.startMm)).toEqual([0, 2200, 3700])
+      expect((await viewer.get(`/api/sessions/${session}/events?block=XS1`)).status).toBe(400)
+    } finally {
+      await admin.patch(`/api/layouts/${copy.body.id}`, { archived: true })
+    }
+  })
+})
+
 function serverPid(): string {
   const port = new URL(BASE_URL).port
   const out = execFileSync('ss', ['-ltnpH', `sport = :${port}`]).toString()
