@@ -128,6 +128,9 @@ export async function benchSessions(): Promise<void> {
     await timed('replay seek to the middle', 20, i => get(`${api}/replay?at=${Math.round((start + end) / 2) + i * 7_919}`))
     await timed('replay seek to the end', 20, i => get(`${api}/replay?at=${end - i * 7_919}`))
     let drawn: { thinning?: { points: number, shown: number } | null, trains: { points: unknown[] }[] } | null = null
+    const tg = performance.now()
+    await get(`${api}/graph?route=UM1,UM2,UM3,UM4&width=1200`)
+    console.log(`   time-distance data, first request (stores the session's train moves): ${ms(performance.now() - tg)}`)
     await timed('time-distance data, route UM1-UM4, four hours, 1200 px wide', 10, async () => { drawn = await get(`${api}/graph?route=UM1,UM2,UM3,UM4&width=1200`) })
     const thin = drawn!.thinning
     console.log(`     ${thin ? `thinned to ${thin.shown.toLocaleString('en')} of ${thin.points.toLocaleString('en')} points` : 'every point drawn'}`)

@@ -7,7 +7,7 @@ import type { Layout } from '#shared/schemas/layout'
 import { namesOf, type LayoutNames } from '#shared/live/feed'
 import { describeJournalRow } from '#shared/live/journal-text'
 import { areaIntervals, type AreaCommand } from '#shared/live/session-areas'
-import { buildTimeDistance, fitGraph, type GraphAlarm, type GraphDescriptionEvent } from '#shared/live/session-graph'
+import { fitGraph, timeDistanceOf, trainMovesOf, type GraphAlarm, type GraphDescriptionEvent, type TrainMove } from '#shared/live/session-graph'
 import type { SessionEventsQuery } from '#shared/schemas/session'
 import type { GraphData, JournalPayload, SessionEventRow, SessionEventsPage, SessionSummary } from '#shared/types/sessions'
 import type { CheckpointState } from '../live/session-replay'
@@ -239,27 +239,73 @@ async function selectArrays(sql: string, values: unknown[]): Promise<unknown[][]
 
 export interface GraphWindow { from?: number, to?: number, width: number }
 
+type StepRow = [at: string, block: string, description: string | null, reason: string | null, signal: string | null]
+
+function splitSteps(rows: StepRow[]): { steps: GraphDescriptionEvent[], alarms: GraphAlarm[] } {
+  const steps: GraphDescriptionEvent[] = []
+  const alarms: GraphAlarm[] = []
+  for (const [at, block, description, reason, signal] of rows) {
+    if (reason === 'spad') alarms.push({ at: Number(at), block, signal: signal ?? '', description })
+    else steps.push({ at: Number(at), block, description, reason: reason ?? '' })
+  }
+  return { steps, alarms }
+}
+
+/** A journal batch of a session can still arrive this long after it ends (as for its checkpoints). */
+const GRAPH_SETTLED_MS = 15_000
+const storingGraph = new Map<number, Promise<void>>()
+
+/** Stores an ended session's train moves and signals passed at danger (session_graph_data), once. */
+export function storeSessionGraph(sessionId: number): Promise<void> {
+  const running = storingGraph.get(sessionId)
+  if (running) return running
+  const work = (async () => {
+    const rows = await selectArrays(
+      `SELECT at_ms, block, description, reason, signal, event_id FROM session_train_steps WHERE session_id = $1 ORDER BY event_id`, [sessionId])
+    const { steps, alarms } = splitSteps(rows as StepRow[])
+    const through = rows.length ? String(rows[rows.length - 1]![5]) : '0'
+    await useDatabase().sequelize.query(
+      `INSERT INTO session_graph_data (session_id, through_event_id, trains, danger_passes)
+       SELECT id, :through, :trains, :alarms FROM operating_sessions WHERE id = :sessionId AND ended_at IS NOT NULL
+       ON CONFLICT (session_id) DO NOTHING`,
+      { replacements: { sessionId, through, trains: JSON.stringify([...trainMovesOf(steps)]), alarms: JSON.stringify(alarms) } })
+  })().finally(() => storingGraph.delete(sessionId))
+  storingGraph.set(sessionId, work)
+  return work
+}
+
+/** The session's train moves: stored once it has settled after its end, else from its steps as they stand. */
+async function sessionTrainMoves(sessionId: number, routeIds: string[], endedAt: number | null): Promise<{ trains: [string, TrainMove[]][], alarms: GraphAlarm[] }> {
+  if (endedAt !== null && Date.now() - endedAt > GRAPH_SETTLED_MS) {
+    const read = () => selectArrays(`SELECT trains, danger_passes FROM session_graph_data WHERE session_id = $1`, [sessionId])
+    let stored = await read()
+    if (!stored.length) {
+      await storeSessionGraph(sessionId)
+      stored = await read()
+    }
+    if (stored.length) return { trains: stored[0]![0] as [string, TrainMove[]][], alarms: stored[0]![1] as GraphAlarm[] }
+  }
+  const rows = await selectArrays(
+    `SELECT at_ms, block, description, reason, signal FROM session_train_steps WHERE session_id = $1 AND block = ANY($2::text[]) ORDER BY event_id`,
+    [sessionId, routeIds])
+  const { steps, alarms } = splitSteps(rows as StepRow[])
+  return { trains: [...trainMovesOf(steps)], alarms }
+}
+
 /**
- * The time-distance graph of a route, from the session's train steps (session_train_steps, in journal order),
- * drawn over the whole session or the window asked for, and thinned to what `width` pixels can show.
+ * The time-distance graph of a route, from the session's train moves, drawn over the whole session or the window
+ * asked for, and thinned to what `width` pixels can show.
  */
-export async function sessionGraph(sessionId: number, layout: Layout, routeIds: string[], startedAt: number, endAt: number, view: GraphWindow): Promise<GraphData> {
+export async function sessionGraph(sessionId: number, layout: Layout, routeIds: string[], startedAt: number, endedAt: number | null, view: GraphWindow): Promise<GraphData> {
   const byId = new Map(layout.blocks.map(b => [b.id, b]))
   const unknown = routeIds.filter(id => !byId.has(id))
   if (unknown.length) throw badFilter('route', `no block ${unknown.map(u => `"${u}"`).join(', ')} on this layout`)
   if (new Set(routeIds).size !== routeIds.length) throw badFilter('route', 'a block appears twice')
+  const endAt = endedAt ?? Date.now()
   const from = Math.max(startedAt, view.from ?? startedAt)
   const to = Math.min(endAt, view.to ?? endAt)
   if (from >= to) throw badFilter('from', 'the span asked for lies outside the session')
-  const rows = await selectArrays(
-    `SELECT at_ms, block, description, reason, signal FROM session_train_steps WHERE session_id = $1 AND block = ANY($2::text[]) ORDER BY event_id`,
-    [sessionId, routeIds])
-  const steps: GraphDescriptionEvent[] = []
-  const alarms: GraphAlarm[] = []
-  for (const [at, block, description, reason, signal] of rows as [string, string, string | null, string | null, string | null][]) {
-    if (reason === 'spad') alarms.push({ at: Number(at), block, signal: signal ?? '', description })
-    else steps.push({ at: Number(at), block, description, reason: reason ?? '' })
-  }
-  const whole = buildTimeDistance(routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })), steps, alarms, startedAt, endAt)
+  const { trains, alarms } = await sessionTrainMoves(sessionId, routeIds, endedAt)
+  const whole = timeDistanceOf(routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })), trains, alarms, startedAt, endAt)
   return fitGraph(whole, from, to, view.width)
 }

@@ -104,6 +104,8 @@ export async function endOperatingSession(user: SessionUser, id: number): Promis
     // Checkpoints for the whole session now, so the first replay seek does not fold the night.
     void extendCheckpoints(db, id, runtime.layout).catch(error => console.warn(`[blockbell] checkpoints of session ${id}: ${(error as Error).message}`))
   }
+  // the graph's train moves once the journal's last batches of the session are in
+  setTimeout(() => void storeSessionGraph(id).catch(error => console.warn(`[blockbell] graph data of session ${id}: ${(error as Error).message}`)), 20_000).unref()
   try { onSessionEnded(id) } catch (error) { console.warn(`[blockbell] after session ${id} ended: ${(error as Error).message}`) }
   return { id, endedAt: new Date(ended.ended_at).toISOString() }
 }

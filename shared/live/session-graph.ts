@@ -4,13 +4,39 @@ export interface GraphBlock { id: string, name: string, lengthMm: number }
 export interface GraphDescriptionEvent { at: number, block: string, description: string | null, reason: string }
 export interface GraphAlarm { at: number, block: string, signal: string, description: string | null }
 
+/** A train's move: its description entering a block, or leaving the block it held (the block's clear). */
+export type TrainMove = [at: number, block: string, enters: 0 | 1]
+
+/**
+ * Each description's moves in journal order. A clear belongs to the description that held the block; a clear of
+ * a block nobody held is nobody's. Which block held what depends on that block's entries alone, so the moves of
+ * a whole session serve every route.
+ */
+export function trainMovesOf(events: GraphDescriptionEvent[]): Map<string, TrainMove[]> {
+  const trains = new Map<string, TrainMove[]>()
+  const holder = new Map<string, string>()
+  for (const e of events) {
+    if (e.description) {
+      holder.set(e.block, e.description)
+      let moves = trains.get(e.description)
+      if (!moves) trains.set(e.description, moves = [])
+      moves.push([e.at, e.block, 1])
+    } else {
+      const d = holder.get(e.block)
+      holder.delete(e.block)
+      if (d) trains.get(d)!.push([e.at, e.block, 0])
+    }
+  }
+  return trains
+}
+
 /**
  * The time-distance graph of a route: blocks in route order, each starting where the one before ends (by
  * length). A described train gets a point each time its description enters a block of the route (the
  * front of the train at the block's start); a break (null) where it leaves the route or skips along it.
  * When its description clears from the last block it held on the route, the line ends at that block's end.
  */
-export function buildTimeDistance(route: GraphBlock[], events: GraphDescriptionEvent[], alarms: GraphAlarm[], from: number, to: number): GraphData {
+export function timeDistanceOf(route: GraphBlock[], trains: Iterable<[string, TrainMove[]]>, alarms: GraphAlarm[], from: number, to: number): GraphData {
   const index = new Map<string, number>()
   const start: number[] = []
   let mm = 0
@@ -19,40 +45,38 @@ export function buildTimeDistance(route: GraphBlock[], events: GraphDescriptionE
     start.push(mm)
     mm += b.lengthMm
   })
-  const trains = new Map<string, { points: ([number, number] | null)[], lastIndex: number | null }>()
-  const holder = new Map<string, string>()
-  const line = (d: string) => {
-    let t = trains.get(d)
-    if (!t) { t = { points: [], lastIndex: null }; trains.set(d, t) }
-    return t
-  }
-  for (const e of events) {
-    const i = index.get(e.block)
-    if (i === undefined) continue
-    if (e.description) {
-      holder.set(e.block, e.description)
-      const t = line(e.description)
-      if (t.lastIndex !== null && t.lastIndex !== i - 1 && t.points.length) t.points.push(null)
-      t.points.push([e.at, start[i]!])
-      t.lastIndex = i
-    } else {
-      const d = holder.get(e.block)
-      holder.delete(e.block)
-      const t = d ? trains.get(d) : undefined
-      if (t && t.lastIndex === i) {
-        t.points.push([e.at, start[i]! + route[i]!.lengthMm], null)
-        t.lastIndex = null
+  const lines: GraphData['trains'] = []
+  for (const [description, moves] of trains) {
+    const points: ([number, number] | null)[] = []
+    let lastIndex: number | null = null
+    let entered = false
+    for (const [at, block, enters] of moves) {
+      const i = index.get(block)
+      if (i === undefined) continue
+      if (enters) {
+        entered = true
+        if (lastIndex !== null && lastIndex !== i - 1 && points.length) points.push(null)
+        points.push([at, start[i]!])
+        lastIndex = i
+      } else if (lastIndex === i) {
+        points.push([at, start[i]! + route[i]!.lengthMm], null)
+        lastIndex = null
       }
     }
+    if (entered) lines.push({ description, points: trimBreaks(points) })
   }
   return {
     route: route.map((b, i) => ({ id: b.id, name: b.name, startMm: start[i]!, lengthMm: b.lengthMm })),
-    trains: [...trains].map(([description, t]) => ({ description, points: trimBreaks(t.points) }))
-      .sort((a, b) => a.description.localeCompare(b.description)),
+    trains: lines.sort((a, b) => a.description.localeCompare(b.description)),
     dangerPasses: alarms.filter(a => index.has(a.block)).map(a => ({ at: a.at, mm: start[index.get(a.block)!]!, signal: a.signal, description: a.description })),
     from,
     to,
   }
+}
+
+/** The time-distance graph of a route from the description entries themselves (see timeDistanceOf). */
+export function buildTimeDistance(route: GraphBlock[], events: GraphDescriptionEvent[], alarms: GraphAlarm[], from: number, to: number): GraphData {
+  return timeDistanceOf(route, trainMovesOf(events), alarms, from, to)
 }
 
 function trimBreaks(points: ([number, number] | null)[]): ([number, number] | null)[] {

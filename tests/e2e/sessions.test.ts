@@ -224,8 +224,10 @@ describe('a scripted session', () => {
     expect(records.map(r => JSON.parse(r.payload!))).toEqual(stored.map(s => s.payload))
   })
 
+  let firstGraph: unknown
   it('gives the time-distance graph of a route: the train line in route order and the signal passed at danger', async () => {
     const graph = (await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4`)).body
+    firstGraph = graph
     expect(graph.route.map((b: { startMm: number }) => b.startMm)).toEqual([0, 2200, 3700, 5500])
     const line = graph.trains.find((t: { description: string }) => t.description === '1F23')
     const distances = line.points.filter(Boolean).map((p: [number, number]) => p[1])
@@ -259,6 +261,24 @@ describe('a scripted session', () => {
     const stored = await db.sequelize.query<{ id: string }>(`SELECT id::text FROM events WHERE session_id = :busy AND events.id <= :last ORDER BY events.id`,
       { replacements: { busy, last: seen[seen.length - 1] }, type: QueryTypes.SELECT })
     expect(seen).toEqual(stored.map(s => s.id))
+  })
+
+  it('draws the same graph from the train moves stored once the session has settled', async () => {
+    const endedAt = Date.parse((await viewer.get(`/api/sessions/${id}`)).body.session.endedAt)
+    await sleep(Math.max(0, endedAt + 16_000 - Date.now()))
+    expect((await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4`)).body).toEqual(firstGraph)
+    const [stored] = await db.sequelize.query<{ n: string }>(`SELECT count(*) AS n FROM session_graph_data WHERE session_id = :id`, { replacements: { id }, type: QueryTypes.SELECT })
+    expect(Number(stored!.n)).toBe(1)
+    // a span of it, and a span outside it
+    const line = (firstGraph as { trains: { description: string, points: ([number, number] | null)[] }[] }).trains.find(t => t.description === '1F23')!
+    const [second, third] = line.points.filter(Boolean).slice(1, 3) as [[number, number], [number, number]]
+    const span = (await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4&from=${second[0]}&to=${third[0]}`)).body
+    expect(span.trains.find((t: { description: string }) => t.description === '1F23').points.filter(Boolean).map((p: [number, number]) => p[1])).toEqual(expect.arrayContaining([2200, 3700]))
+    expect(span.thinning).toBeNull()
+    const outside = await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2&from=1000&to=2000`)
+    expect(outside.status).toBe(400)
+    expect(outside.body.message).toMatch(/^from:/)
+    expect((await viewer.get(`/api/sessions/${id}/graph?route=UM1&width=20`)).body.message).toMatch(/^width:/)
   })
 
   it('lets only an admin delete the log, naming what goes; its checkpoints go with it', async () => {

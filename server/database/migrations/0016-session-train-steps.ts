@@ -7,6 +7,9 @@ import { DataTypes, type QueryInterface } from 'sequelize'
  * entry in the same transaction that journals it, so a running session's graph is as complete as its log;
  * the rows go with their session. `at_ms` is the entry's time, or for a signal passed at danger the time the
  * alarm names.
+ * session_graph_data: once a session has ended, each train's moves (description entering a block, or leaving the
+ * block it held) and the signals passed at danger, as one JSON value each: every route's graph is drawn from
+ * them without reading the steps again.
  */
 const COPY_FUNCTION = `
 CREATE FUNCTION session_train_steps_copy() RETURNS trigger LANGUAGE plpgsql AS $$
@@ -42,6 +45,13 @@ export async function up({ context: qi }: { context: QueryInterface }) {
     reason: { type: DataTypes.TEXT, allowNull: true },
     signal: { type: DataTypes.TEXT, allowNull: true },
   })
+  await qi.createTable('session_graph_data', {
+    session_id: { type: DataTypes.INTEGER, allowNull: false, primaryKey: true, references: { model: 'operating_sessions', key: 'id' }, onDelete: 'CASCADE' },
+    // the last train step taken in
+    through_event_id: { type: DataTypes.BIGINT, allowNull: false },
+    trains: { type: DataTypes.JSON, allowNull: false },
+    danger_passes: { type: DataTypes.JSON, allowNull: false },
+  })
   await qi.sequelize.query(COPY_FUNCTION)
   await qi.sequelize.query(`CREATE TRIGGER events_session_train_steps AFTER INSERT ON events FOR EACH ROW
     WHEN (${STEP_OR_SPAD('NEW')}) EXECUTE FUNCTION session_train_steps_copy()`)
@@ -61,5 +71,6 @@ export async function up({ context: qi }: { context: QueryInterface }) {
 export async function down({ context: qi }: { context: QueryInterface }) {
   await qi.sequelize.query('DROP TRIGGER IF EXISTS events_session_train_steps ON events')
   await qi.sequelize.query('DROP FUNCTION IF EXISTS session_train_steps_copy()')
+  await qi.dropTable('session_graph_data')
   await qi.dropTable('session_train_steps')
 }

@@ -6,5 +6,5 @@ export default defineEventHandler(async (event) => {
   const { id } = await parseParams(event, IdParams)
   const { route, from, to, width } = await parseQuery(event, GraphQuery)
   const { row, layout } = await loadSession(id)
-  return sessionGraph(id, layout, route, row.started_at.getTime(), row.ended_at?.getTime() ?? Date.now(), { from, to, width })
+  return sessionGraph(id, layout, route, row.started_at.getTime(), row.ended_at?.getTime() ?? null, { from, to, width })
 })
