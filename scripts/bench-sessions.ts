@@ -42,7 +42,7 @@ export async function fillBenchSession(db: Database) {
   const [{ id: layoutId }] = await db.sequelize.query<{ id: number }>(`SELECT id FROM layouts WHERE slug = 'wrenfold'`, { type: QueryTypes.SELECT }) as [{ id: number }]
   const end = Date.now()
   const start = end - HOURS * 3_600_000
-  const session = await db.models.OperatingSession.create({ layoutId, name: 'Bench night', startedAt: new Date(start), endedAt: new Date(end), fastClockRatio: 4 })
+  const session = await db.models.OperatingSession.create({ layoutId, layoutVersion: 1, name: 'Bench night', startedAt: new Date(start), endedAt: new Date(end), fastClockRatio: 4 })
   const state = initialState(layout.layout)
   for (const t of Object.keys(state.turnouts)) state.turnouts[t] = 'normal'
   await db.sequelize.query(`INSERT INTO session_checkpoints (session_id, event_id, at, events_folded, state) VALUES (:id, 0, :at, 0, :state)`,

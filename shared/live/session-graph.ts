@@ -92,16 +92,22 @@ type Point = [number, number]
  */
 export function clipLine(points: (Point | null)[], from: number, to: number): (Point | null)[] {
   const out: (Point | null)[] = []
-  for (const segment of segments(points)) {
-    const kept: Point[] = []
-    segment.forEach((p, i) => {
-      const inside = p[0] >= from && p[0] <= to
-      const leadsIn = p[0] < from && (segment[i + 1]?.[0] ?? -Infinity) >= from
-      const leadsOut = p[0] > to && (segment[i - 1]?.[0] ?? Infinity) <= to
-      if (inside || leadsIn || leadsOut) kept.push(p)
-    })
-    if (kept.length) out.push(...(out.length ? [null] : []), ...kept)
-  }
+  let pendingBreak = false
+  points.forEach((p, i) => {
+    if (!p) {
+      pendingBreak = out.length > 0
+      return
+    }
+    const next = points[i + 1]
+    const previous = points[i - 1]
+    const inside = p[0] >= from && p[0] <= to
+    const leadsIn = p[0] < from && !!next && next[0] >= from
+    const leadsOut = p[0] > to && !!previous && previous[0] <= to
+    if (!inside && !leadsIn && !leadsOut) return
+    if (pendingBreak) out.push(null)
+    pendingBreak = false
+    out.push(p)
+  })
   return out
 }
 
@@ -114,45 +120,47 @@ export function clipLine(points: (Point | null)[], from: number, to: number): (P
  * column, the first is kept.
  */
 export function thinLine(points: (Point | null)[], from: number, to: number, columns: number): (Point | null)[] {
-  const span = Math.max(1, to - from)
-  const column = (t: number) => Math.floor((t - from) / span * columns)
+  const scale = columns / Math.max(1, to - from)
+  const column = (t: number) => Math.floor((t - from) * scale)
   const out: (Point | null)[] = []
-  const lone = new Set<string>()
-  for (const segment of segments(points)) {
-    if (segment.length === 1) {
+  const dots = new Map<number, Set<number>>()
+  let i = 0
+  while (i < points.length) {
+    if (!points[i]) { i++; continue }
+    let stop = i
+    while (stop + 1 < points.length && points[stop + 1]) stop++
+    // points[i..stop] is one stretch between breaks
+    if (stop === i) {
       // a point standing alone is a dot: one dot per column and distance is what shows
-      const key = `${column(segment[0]![0])}:${segment[0]![1]}`
-      if (lone.has(key)) continue
-      lone.add(key)
-    }
-    const kept = new Set<number>()
-    let start = 0
-    while (start < segment.length) {
-      const c = column(segment[start]![0])
-      let end = start
-      let low = start
-      let high = start
-      while (end + 1 < segment.length && column(segment[end + 1]![0]) === c) {
-        end++
-        if (segment[end]![1] < segment[low]![1]) low = end
-        if (segment[end]![1] > segment[high]![1]) high = end
+      const [t, mm] = points[i]!
+      const seen = dots.get(column(t)) ?? new Set<number>()
+      dots.set(column(t), seen)
+      if (!seen.has(mm)) {
+        seen.add(mm)
+        if (out.length) out.push(null)
+        out.push(points[i]!)
       }
-      kept.add(start).add(low).add(high).add(end)
-      start = end + 1
+      i = stop + 1
+      continue
     }
     if (out.length) out.push(null)
-    out.push(...[...kept].sort((a, b) => a - b).map(i => segment[i]!))
+    let first = i
+    while (first <= stop) {
+      const c = column(points[first]![0])
+      let last = first
+      let low = first
+      let high = first
+      while (last < stop && column(points[last + 1]![0]) === c) {
+        last++
+        if (points[last]![1] < points[low]![1]) low = last
+        if (points[last]![1] > points[high]![1]) high = last
+      }
+      for (const k of [first, low, high, last].sort((x, y) => x - y).filter((k, n, all) => n === 0 || k !== all[n - 1])) out.push(points[k]!)
+      first = last + 1
+    }
+    i = stop + 1
   }
   return out
-}
-
-function segments(points: (Point | null)[]): Point[][] {
-  const all: Point[][] = [[]]
-  for (const p of points) {
-    if (p) all[all.length - 1]!.push(p)
-    else if (all[all.length - 1]!.length) all.push([])
-  }
-  return all.filter(s => s.length)
 }
 
 /** The graph as drawn `columns` pixels wide over [from, to]: lines clipped to the window and thinned (M4). */

@@ -59,6 +59,14 @@ describe('thinning the time-distance graph to its width (M4)', () => {
     }))
   })
 
+  it('thins a night-long unbroken line of 300,000 points to four a column at most', () => {
+    const long: Point[] = Array.from({ length: 300_000 }, (_, i) => [i / 3, (i * 7919) % 9000])
+    const thinned = thinLine(clipLine(long, FROM, TO), FROM, TO, 1200)
+    expect(thinned.length).toBeLessThanOrEqual(4 * 1200)
+    expect(thinned[0]).toEqual(long[0])
+    expect(thinned[thinned.length - 1]).toEqual(long[long.length - 1])
+  })
+
   it('leaves a line alone when no column holds more than its four points', () => {
     const points: (Point | null)[] = [[0, 0], [20_000, 2200], null, [50_000, 3700], [90_000, 5500]]
     expect(thinLine(points, FROM, TO, 100)).toEqual(points)
