@@ -1,8 +1,10 @@
 // Liveness for scripts and monitors: whether the database answers and the journal is writing. Public: it
-// gives states and one count, nothing else. 503 while the journal is stalled.
+// gives states and one count, and which process this is and which layouts it runs (several processes behind a
+// load balancer), nothing else. 503 while the journal is stalled.
 export default defineEventHandler(async (event) => {
   const database = await useDatabase().sequelize.authenticate().then(() => 'up', () => 'down')
   const journal = journalHealth(useLive().journalStats())
   if (journal.status !== 'ok') setResponseStatus(event, 503)
-  return { status: journal.status === 'ok' ? 'ok' : 'degraded', database, journal: { status: journal.status, setAside: journal.setAside } }
+  const { instance, owns } = useLive().ownerInfo()
+  return { status: journal.status === 'ok' ? 'ok' : 'degraded', database, journal: { status: journal.status, setAside: journal.setAside }, instance, owns }
 })

@@ -1,8 +1,9 @@
 import type { Peer } from 'crossws'
-import { ClientMessage, MAX_MESSAGE_BYTES, type LiveUser, type ServerMessage } from '#shared/live/protocol'
+import { ClientMessage, MAX_MESSAGE_BYTES, type LiveCommand, type LiveUser, type ServerMessage } from '#shared/live/protocol'
 import { describeIssues } from '../utils/validation'
 import type { LiveSession } from '../utils/live-auth'
 import type { LiveService } from './service'
+import type { CommandOutcome } from './runtime'
 
 const RATE_PER_SECOND = 20
 const BURST = 40
@@ -20,6 +21,9 @@ export class PanelConnection {
     private readonly live: LiveService,
     private readonly recheckUser: () => Promise<LiveUser | null>,
   ) {}
+
+  /** The layout this panel watches, if any. */
+  get layoutSlug(): string | null { return this.slug }
 
   /** Ends this panel's link because its session has ended (sign-out, password, disable, role change). */
   end(): void {
@@ -55,12 +59,14 @@ export class PanelConnection {
       case 'subscribe': return this.subscribe(message.layout)
       case 'resync': {
         const runtime = this.slug ? this.live.runtime(this.slug) : undefined
+        if (!runtime && this.slug && this.live.runsElsewhere(this.slug)) return this.sendRemoteSnapshot(this.slug)
         if (!runtime) return this.send({ type: 'error', message: 'Subscribe to a layout first.' })
         return this.send(runtime.snapshot())
       }
       case 'command': {
         const runtime = this.slug ? this.live.runtime(this.slug) : undefined
-        if (!runtime) return this.send({ type: 'command-result', id: message.id, ok: false, reason: 'Subscribe to a layout first.' })
+        const elsewhere = !runtime && this.slug !== null && this.live.runsElsewhere(this.slug)
+        if (!runtime && !elsewhere) return this.send({ type: 'command-result', id: message.id, ok: false, reason: 'Subscribe to a layout first.' })
         // The role and the account are checked again for every command: a change by an admin takes effect at once.
         let current: LiveUser | null
         try {
@@ -73,14 +79,40 @@ export class PanelConnection {
           return this.end()
         }
         this.user = current
-        const verdict = runtime.command(current, message.command, message.madeAt)
+        const verdict = runtime ? runtime.command(current, message.command, message.madeAt) : await this.remoteCommand(current, message.command, message.madeAt)
         return this.send(verdict.ok ? { type: 'command-result', id: message.id, ok: true } : { type: 'command-result', id: message.id, ok: false, reason: verdict.reason })
       }
     }
   }
 
-  private subscribe(slug: string): void {
+  /** Several processes: the command goes to the process that runs the layout, and its outcome comes back. */
+  private async remoteCommand(user: LiveUser, command: LiveCommand, madeAt?: number): Promise<CommandOutcome> {
+    try {
+      return await this.live.remoteCommand(this.slug!, user, command, madeAt)
+    } catch {
+      return { ok: false, reason: 'No answer from the server that runs this layout (it may be changing over to another server). The command may or may not have been carried out: look at the panel before you try again.' }
+    }
+  }
+
+  private async sendRemoteSnapshot(slug: string): Promise<void> {
+    try {
+      const snapshot = await this.live.remoteSnapshot(slug)
+      if (this.slug === slug) this.send(snapshot)
+    } catch {
+      if (this.slug === slug) this.send({ type: 'error', message: 'No server runs this layout just now; the panel catches up as soon as one takes it over.' })
+    }
+  }
+
+  private subscribe(slug: string): void | Promise<void> {
     const runtime = this.live.runtime(slug)
+    if (!runtime && this.live.runsElsewhere(slug)) {
+      // Join first: deltas that come before the snapshot are dropped by the panel; any after it follow it.
+      this.leave()
+      this.slug = slug
+      this.live.hub.join(slug, this.peer)
+      this.live.announcePanels(slug)
+      return this.sendRemoteSnapshot(slug)
+    }
     if (!runtime) return this.send({ type: 'error', message: `layout: there is no live layout "${slug}".` })
     this.leave()
     this.slug = slug
@@ -93,8 +125,11 @@ export class PanelConnection {
 
   leave(): void {
     if (!this.slug) return
-    this.live.hub.leave(this.slug, this.peer)
-    this.live.runtime(this.slug)?.disconnect(this.user)
+    const slug = this.slug
+    this.live.hub.leave(slug, this.peer)
     this.slug = null
+    const runtime = this.live.runtime(slug)
+    if (runtime) runtime.disconnect(this.user)
+    else this.live.announcePanels(slug)
   }
 }

@@ -15,6 +15,8 @@ export interface JournalRecord {
   subject: string | null
   payloadJson: string
   userId: number | null
+  /** Owner epoch (several processes), or null. */
+  epoch: number | null
 }
 
 // Column widths of the events table (migration 0001): longer text would make PostgreSQL refuse the row.
@@ -95,13 +97,14 @@ export function prepareJournalEntry(entry: JournalEntry, seq: number, key: strin
     subject,
     payloadJson: serialisePayload(entry.payload, problems),
     userId: entry.userId ?? null,
+    epoch: typeof entry.epoch === 'number' ? entry.epoch : null,
   }
   return { stored, problems }
 }
 
 /** One line of a spill file. The payload is kept as JSON (not a string) so the file stays readable. */
 export function toJournalSpillLine(e: JournalRecord): string {
-  const head = JSON.stringify({ seq: e.seq, key: e.key, layoutId: e.layoutId, sessionId: e.sessionId, at: e.at, type: e.type, subject: e.subject, userId: e.userId })
+  const head = JSON.stringify({ seq: e.seq, key: e.key, layoutId: e.layoutId, sessionId: e.sessionId, at: e.at, type: e.type, subject: e.subject, userId: e.userId, ...(e.epoch === null ? {} : { epoch: e.epoch }) })
   return `${head.slice(0, -1)},"payload":${e.payloadJson}}\n`
 }
 
@@ -121,5 +124,6 @@ export function fromJournalSpillLine(line: string): JournalRecord | null {
     subject: typeof raw.subject === 'string' ? raw.subject : null,
     payloadJson: JSON.stringify(raw.payload ?? {}),
     userId: typeof raw.userId === 'number' ? raw.userId : null,
+    epoch: typeof raw.epoch === 'number' ? raw.epoch : null,
   }
 }

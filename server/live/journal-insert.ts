@@ -6,12 +6,21 @@ import { journalTimeProblem, type JournalRecord } from './journal-entry'
  * rows, in array order (WITH ORDINALITY ... ORDER BY keeps it explicit), so ids ascend in append order.
  * ON CONFLICT on the entry key skips rows a previous attempt already stored (its acknowledgement was lost).
  * scripts/bench-journal.ts compares this with Sequelize's bulkCreate and a multi-row VALUES list.
+ *
+ * Fencing (several processes): a row with an owner epoch is stored only while that epoch is the layout's
+ * current one. FOR SHARE on the owner row makes a takeover (which bumps the epoch with an UPDATE) wait for
+ * a write in progress, and a write after the takeover reads the new epoch: a former owner's rows never land
+ * after the new owner has read the journal. Rows without an epoch (a process alone) are not fenced.
  */
 const INSERT_SQL = `
-INSERT INTO events (layout_id, session_id, at, type, subject, payload, user_id, entry_key)
-SELECT layout_id, session_id, at, type, subject, payload, user_id, entry_key
-FROM unnest($1::int[], $2::int[], $3::timestamptz[], $4::text[], $5::text[], $6::jsonb[], $7::int[], $8::text[])
-  WITH ORDINALITY AS r(layout_id, session_id, at, type, subject, payload, user_id, entry_key, n)
+WITH owners AS (
+  SELECT layout_id, epoch FROM layout_owners WHERE layout_id = ANY($1::int[]) FOR SHARE
+)
+INSERT INTO events (layout_id, session_id, at, type, subject, payload, user_id, entry_key, owner_epoch)
+SELECT layout_id, session_id, at, type, subject, payload, user_id, entry_key, owner_epoch
+FROM unnest($1::int[], $2::int[], $3::timestamptz[], $4::text[], $5::text[], $6::jsonb[], $7::int[], $8::text[], $9::bigint[])
+  WITH ORDINALITY AS r(layout_id, session_id, at, type, subject, payload, user_id, entry_key, owner_epoch, n)
+WHERE r.owner_epoch IS NULL OR r.owner_epoch = (SELECT o.epoch FROM owners o WHERE o.layout_id = r.layout_id)
 ORDER BY n
 ON CONFLICT (entry_key) DO NOTHING`
 
@@ -35,6 +44,7 @@ export async function insertJournalRecords(sequelize: Sequelize, entries: Journa
     entries.map(e => e.payloadJson),
     entries.map(e => e.userId),
     entries.map(e => e.key),
+    entries.map(e => e.epoch),
   ]
   const [, rowCount] = await sequelize.query(INSERT_SQL, { bind, type: QueryTypes.INSERT })
   return Number(rowCount ?? 0)

@@ -15,6 +15,11 @@ export interface JournalEntry {
   subject: string | null
   payload: Record<string, unknown>
   userId: number | null
+  /**
+   * The owner epoch of the layout this entry was made under (several processes); the database refuses it
+   * once another process has taken the layout over. Absent for a process that runs alone.
+   */
+  epoch?: number | null
 }
 
 export interface JournalOptions {

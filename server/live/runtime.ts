@@ -29,6 +29,8 @@ export interface RuntimeDeps {
   areaGraceMs?: number
   /** A hand-over not accepted within this time falls back to the giver. */
   handOverTimeoutMs?: number
+  /** First delta number less one: a new owner (several processes) numbers past every former owner's. */
+  seqStart?: number
 }
 
 export const AREA_GRACE_MS = 60_000
@@ -79,6 +81,7 @@ export class LayoutRuntime {
     this.slug = deps.slug
     this.layout = deps.layout
     this.now = deps.now ?? Date.now
+    this.seq = deps.seqStart ?? 0
     this.engine = createEngine(deps.layout, deps.state)
     this.names = namesOf(deps.layout)
     this.decoders = new Map(deps.layout.decoders.map(d => [d.address, d.description]))

@@ -1,8 +1,9 @@
 import { randomBytes } from 'node:crypto'
+import { hostname } from 'node:os'
 import { join } from 'node:path'
 import mqtt, { type MqttClient } from 'mqtt'
 import { validateLayout } from '#shared/signalling'
-import { HEARTBEAT_MS, type AreaHolders, type LiveSession as OperatingSessionInfo, type ServerMessage } from '#shared/live/protocol'
+import { HEARTBEAT_MS, type AreaHolders, type LiveCommand, type LiveSession as OperatingSessionInfo, type LiveUser, type ServerMessage } from '#shared/live/protocol'
 import type { Layout } from '#shared/schemas/layout'
 import type { LayoutState } from '#shared/signalling'
 import type { Layout as LayoutRow } from '../database/models'
@@ -15,10 +16,13 @@ import { PanelHub } from './hub'
 import { createJournal, type Journal } from './journal'
 import { parseDetectorPayload, parseDeviceStatusPayload, parseTurnoutPayload } from './payloads'
 import { INPUT_FILTERS, parseInputTopic } from '#shared/live/topics'
-import { LayoutRuntime } from './runtime'
+import { LayoutRuntime, type CommandOutcome } from './runtime'
 import { restoreLayoutState } from './restore'
 import { carryAreas, carryState } from './layout-reload'
 import { runningLiveSession } from './session-live'
+import { ClusterLink, type ClusterHost, type OwnerRequest } from './cluster'
+import { LayoutOwnership } from './ownership'
+import { databaseSettings } from '../database/config'
 
 export interface LiveSettings {
   /** External broker; when set, no broker is started here. */
@@ -32,6 +36,13 @@ export interface LiveSettings {
   areaGraceMs: number
   /** BLOCKBELL_HANDOVER_TIMEOUT_S: a hand-over not accepted in this time stays with the giver. */
   handOverTimeoutMs: number
+  /** BLOCKBELL_INSTANCE: this process's name in logs and /api/health. */
+  instance: string
+  /**
+   * Several processes share the broker at MQTT_URL and the database (BLOCKBELL_INSTANCE and MQTT_URL both
+   * set): each layout runs in the one process holding its advisory lock; the others relay.
+   */
+  several: boolean
 }
 
 /** A whole number of seconds from the environment, in ms; the default when unset or not a positive number. */
@@ -53,7 +64,15 @@ export function liveSettings(env: NodeJS.ProcessEnv = process.env): LiveSettings
     dataDir: env.BLOCKBELL_DATA_DIR || join(process.cwd(), '.data'),
     areaGraceMs: secondsSetting(env.BLOCKBELL_AREA_GRACE_S, 60, 'BLOCKBELL_AREA_GRACE_S'),
     handOverTimeoutMs: secondsSetting(env.BLOCKBELL_HANDOVER_TIMEOUT_S, 30, 'BLOCKBELL_HANDOVER_TIMEOUT_S'),
+    instance: instanceName(env.BLOCKBELL_INSTANCE),
+    several: Boolean(env.BLOCKBELL_INSTANCE && env.MQTT_URL),
   }
+}
+
+/** A name that fits in topic levels and logs; the host name and process id when unset. */
+function instanceName(value: string | undefined): string {
+  const cleaned = (value ?? '').replace(/[^A-Za-z0-9._-]/g, '-').slice(0, 48)
+  return cleaned || `${hostname().replace(/[^A-Za-z0-9._-]/g, '-').slice(0, 32)}-${process.pid}`
 }
 
 const log = (message: string) => console.log(`[blockbell] ${message}`)
@@ -62,7 +81,7 @@ const log = (message: string) => console.log(`[blockbell] ${message}`)
  * Everything live in one server process: the embedded broker (unless an external one is configured), the
  * MQTT bridge, one runtime per layout, the panels' WebSocket hub and the journal.
  */
-export class LiveService {
+export class LiveService implements ClusterHost {
   readonly hub = new PanelHub()
   readonly runtimes = new Map<string, LayoutRuntime>()
   readonly counters = { mqttRejected: 0, mqttTimeReplaced: 0 }
@@ -75,6 +94,14 @@ export class LiveService {
   private sessionVersions = new Map<number, number>()
   // Sessions signed out while this process ran (a few a day; a restart forgets them, the database does not).
   private endedSessions = new Set<string>()
+  // Several processes (settings.several): the link to the others, the layout locks, every live layout of the
+  // database (id -> slug, also those another process runs), the epoch of each layout owned here, and the
+  // panels other processes have open on them.
+  private cluster: ClusterLink | null = null
+  private ownership: LayoutOwnership | null = null
+  private layoutSlugs = new Map<number, string>()
+  private ownerEpochs = new Map<string, number>()
+  private remotePanels = new Map<string, Map<string, { user: LiveUser, count: number }[]>>()
 
   constructor(private readonly db: Database, private readonly settings: LiveSettings) {
     this.journal = createJournal({ sequelize: db.sequelize, spillDir: join(settings.dataDir, 'journal-spill'), log })
@@ -128,6 +155,8 @@ export class LiveService {
   }
 
   private async start(): Promise<void> {
+    if (this.settings.several) return this.startSeveral()
+    if (process.env.BLOCKBELL_INSTANCE && !this.settings.mqttUrl) log('BLOCKBELL_INSTANCE is set but MQTT_URL is not: running alone with the embedded broker')
     // Entries a previous run left in the spill file go in first, so the restored state includes them.
     await this.journal.flush()
     await this.loadLayouts()
@@ -142,6 +171,168 @@ export class LiveService {
       url = `mqtt://${this.settings.mqttHost}:${this.broker.port}`
     }
     this.connectBridge(url, this.settings.mqttUrl ? {} : internal)
+  }
+
+  /**
+   * One of several processes: no broker here, no runtime until this process holds a layout's lock. Entries a
+   * former run left in the spill file still go in first (those of an epoch since taken over are refused).
+   */
+  private async startSeveral(): Promise<void> {
+    await this.journal.flush()
+    const url = this.settings.mqttUrl!
+    this.cluster = new ClusterLink(url, this.settings.instance, this)
+    this.client = this.cluster.client
+    this.client.on('connect', () => {
+      log(`MQTT bridge connected to ${url} (instance ${this.settings.instance})`)
+      for (const runtime of this.runtimes.values()) runtime.publishAllRetained()
+    })
+    for (let attempt = 1; ; attempt++) {
+      try {
+        const rows = await this.db.models.Layout.findAll({ where: { archivedAt: null }, attributes: ['id', 'slug'] })
+        for (const row of rows) this.layoutSlugs.set(row.id, row.slug)
+        break
+      } catch (error) {
+        log(`cannot load layouts yet (attempt ${attempt}): ${(error as Error).message}`)
+        await new Promise(resolve => setTimeout(resolve, Math.min(5000, 500 * attempt)))
+      }
+    }
+    this.ownership = new LayoutOwnership(databaseSettings(), this.settings.instance, {
+      acquired: (id, epoch) => this.takeOver(id, epoch),
+      lost: id => this.giveUp(id),
+    }, log)
+    this.ownership.want(this.layoutSlugs.keys())
+    this.ownership.start()
+    log(`instance ${this.settings.instance}: live layouts ${[...this.layoutSlugs.values()].join(', ') || 'none'}, run by whichever process holds each one's lock`)
+  }
+
+  /** This process took a layout's lock: its state is rebuilt from the journal and it runs here. */
+  private async takeOver(id: number, epoch: number): Promise<void> {
+    const row = await this.db.models.Layout.findByPk(id)
+    if (!row || row.archivedAt) throw new Error('the layout is archived or gone')
+    const checked = validateLayout(row.definition)
+    if (!checked.ok) throw new Error(`the layout is not valid: ${checked.errors.map(e => `${e.path}: ${e.message}`).join('; ')}`)
+    const restored = await restoreLayoutState(this.db, row.id, checked.layout)
+    const session = await runningLiveSession(this.db, row.id)
+    if (this.ownership?.ownedLayouts().get(id) !== epoch) return // lost again meanwhile
+    const started = Date.now()
+    this.layoutSlugs.set(id, row.slug)
+    this.ownerEpochs.set(row.slug, epoch)
+    this.remotePanels.delete(row.slug)
+    this.cluster!.noteEpoch(row.slug, epoch)
+    const runtime = this.newRuntime(row, checked.layout, restored.state, restored.areas, session, epoch)
+    this.runtimes.set(row.slug, runtime)
+    for (const panel of this.panels) if (panel.layoutSlug === row.slug) runtime.connect(panel.user)
+    this.cluster!.takeInputs(row.slug)
+    runtime.publishAllRetained()
+    // Every panel, here and on the other processes, starts again from this owner's state.
+    runtime.flushDelta()
+    this.toPanels(row.slug, runtime.snapshot())
+    log(`layout ${row.slug} runs here now (instance ${this.settings.instance}, epoch ${epoch}, ${Date.now() - started} ms after the restore)`)
+  }
+
+  /** This process lost a layout's lock: it stops writing at once; another process takes over. */
+  private giveUp(id: number): void {
+    const slug = this.layoutSlugs.get(id)
+    if (!slug || !this.ownerEpochs.has(slug)) return
+    this.ownerEpochs.delete(slug) // the runtime's journal, MQTT and panel outputs are shut from here on
+    this.cluster?.dropInputs(slug)
+    this.remotePanels.delete(slug)
+    const runtime = this.runtimes.get(slug)
+    this.runtimes.delete(slug)
+    runtime?.stop()
+    this.hub.broadcast(slug, { type: 'error', message: 'This server no longer runs the layout; another server is taking it over. The panel catches up by itself.' })
+    log(`layout ${slug}: stopped here (instance ${this.settings.instance} lost its lock)`)
+  }
+
+  /** One message for a layout's panels: those here, and (when this process owns it) those of the others. */
+  private toPanels(slug: string, message: ServerMessage): void {
+    this.hub.broadcast(slug, message)
+    const epoch = this.ownerEpochs.get(slug)
+    if (epoch !== undefined) this.cluster?.publishPanels(slug, epoch, message)
+  }
+
+  // ---- ClusterHost: what the other processes ask of this one ----
+
+  ownedRuntime(slug: string): LayoutRuntime | undefined {
+    return this.ownerEpochs.has(slug) ? this.runtimes.get(slug) : undefined
+  }
+
+  relay(slug: string, message: ServerMessage): void { this.hub.broadcast(slug, message) }
+
+  ownerChanged(slug: string): void { this.announcePanels(slug) }
+
+  remoteOperators(slug: string, instance: string, operators: { user: LiveUser, count: number }[]): void {
+    const runtime = this.ownedRuntime(slug)
+    if (!runtime) return
+    let byInstance = this.remotePanels.get(slug)
+    if (!byInstance) this.remotePanels.set(slug, byInstance = new Map())
+    const before = byInstance.get(instance) ?? []
+    const countIn = (list: typeof before, userId: number) => list.find(o => o.user.id === userId)?.count ?? 0
+    for (const userId of new Set([...before, ...operators].map(o => o.user.id))) {
+      const diff = countIn(operators, userId) - countIn(before, userId)
+      const user = (operators.find(o => o.user.id === userId) ?? before.find(o => o.user.id === userId))!.user
+      for (let i = 0; i < diff; i++) runtime.connect(user)
+      for (let i = 0; i < -diff; i++) runtime.disconnect(user)
+    }
+    byInstance.set(instance, operators)
+  }
+
+  instanceGone(instance: string): void {
+    for (const slug of this.ownerEpochs.keys()) this.remoteOperators(slug, instance, [])
+  }
+
+  layoutsChanged(change: { action: 'start' | 'reload' | 'stop', id: number, slug: string }): void {
+    void this.followLayout(change).catch(error => log(`layout ${change.slug}: ${(error as Error).message}`))
+  }
+
+  input(topic: string, payload: Buffer): void { this.onMessage(topic, payload) }
+
+  /** Whether a layout runs on another process (several processes) and this one can relay it. */
+  runsElsewhere(slug: string): boolean {
+    return this.cluster !== null && !this.ownerEpochs.has(slug) && [...this.layoutSlugs.values()].includes(slug)
+  }
+
+  /** Asks the layout's owner (another process) for a snapshot. */
+  remoteSnapshot(slug: string): Promise<ServerMessage> {
+    return this.cluster!.ask<ServerMessage>(slug, { kind: 'snapshot' } satisfies OwnerRequest)
+  }
+
+  /** Forwards a command to the layout's owner (another process) and brings back its outcome. */
+  remoteCommand(slug: string, user: LiveUser, command: LiveCommand, madeAt?: number): Promise<CommandOutcome> {
+    return this.cluster!.ask<CommandOutcome>(slug, { kind: 'command', user, command, madeAt })
+  }
+
+  /** The panels here on a layout changed: the owner (another process) is told who watches. */
+  announcePanels(slug: string): void {
+    if (!this.cluster || this.ownerEpochs.has(slug)) return
+    const counts = new Map<number, { user: LiveUser, count: number }>()
+    for (const panel of this.panels) {
+      if (panel.layoutSlug !== slug) continue
+      const entry = counts.get(panel.user.id)
+      if (entry) entry.count++
+      else counts.set(panel.user.id, { user: panel.user, count: 1 })
+    }
+    this.cluster.tell(slug, { kind: 'operators', instance: this.settings.instance, operators: [...counts.values()] })
+  }
+
+  /** Which process this is and the layouts it runs (for /api/health). */
+  ownerInfo(): { instance: string, several: boolean, owns: string[] } {
+    return { instance: this.settings.instance, several: this.settings.several, owns: this.settings.several ? [...this.ownerEpochs.keys()].sort() : [...this.runtimes.keys()].sort() }
+  }
+
+  /** Another process saved, made or archived a layout (or this one did): follow it here. */
+  private async followLayout(change: { action: 'start' | 'reload' | 'stop', id: number, slug: string }): Promise<void> {
+    if (change.action === 'stop') {
+      for (const [id, slug] of this.layoutSlugs) if (slug === change.slug) this.layoutSlugs.delete(id)
+      this.ownership?.want(this.layoutSlugs.keys())
+      if (this.ownerEpochs.has(change.slug)) this.stopRuntime(change.slug)
+      else this.hub.broadcast(change.slug, { type: 'error', message: `layout: "${change.slug}" no longer runs (archived or deleted).` })
+      return
+    }
+    this.layoutSlugs.set(change.id, change.slug)
+    this.ownership?.want(this.layoutSlugs.keys())
+    if (change.action === 'reload' && this.ownerEpochs.has(change.slug)) await this.reloadOwned(change.id)
+    void this.ownership?.tick()
   }
 
   /** Loads every layout that is not archived; retries while PostgreSQL is unreachable. */
@@ -159,13 +350,20 @@ export class LiveService {
     }
   }
 
-  private newRuntime(row: { id: number, slug: string }, layout: Layout, state: LayoutState, areas: AreaHolders, session: OperatingSessionInfo | null): LayoutRuntime {
+  /**
+   * `epoch` (several processes): the owner epoch the runtime writes under. Its outputs (journal, MQTT,
+   * panels) stop the moment this process no longer owns the layout at that epoch.
+   */
+  private newRuntime(row: { id: number, slug: string }, layout: Layout, state: LayoutState, areas: AreaHolders, session: OperatingSessionInfo | null, epoch?: number): LayoutRuntime {
+    const current = () => epoch === undefined || this.ownerEpochs.get(row.slug) === epoch
     return new LayoutRuntime({
       layoutId: row.id, slug: row.slug, layout, debounceMs: this.settings.debounceMs, state, areas, session,
       areaGraceMs: this.settings.areaGraceMs, handOverTimeoutMs: this.settings.handOverTimeoutMs,
-      publish: (topic, payload, retain) => this.client?.publish(topic, payload, { retain, qos: 1 }),
-      journal: this.journal,
-      broadcast: (message: ServerMessage) => this.hub.broadcast(row.slug, message),
+      publish: (topic, payload, retain) => { if (current()) this.client?.publish(topic, payload, { retain, qos: 1 }) },
+      journal: epoch === undefined ? this.journal : { append: (entry) => { if (current()) this.journal.append({ ...entry, epoch }) } },
+      broadcast: epoch === undefined ? (message: ServerMessage) => this.hub.broadcast(row.slug, message) : (message: ServerMessage) => { if (current()) this.toPanels(row.slug, message) },
+      // A new owner numbers its deltas past any former owner's, so no panel takes one for a duplicate.
+      seqStart: epoch === undefined ? 0 : epoch * 1e9,
     })
   }
 
@@ -182,6 +380,13 @@ export class LiveService {
   /** A layout made (or restored from the archive) while the server runs gets its runtime at once. */
   async startLayout(id: number): Promise<void> {
     await this.ready
+    if (this.cluster) {
+      const found = await this.db.models.Layout.findByPk(id)
+      if (!found || found.archivedAt) return
+      const change = { action: 'start' as const, id, slug: found.slug }
+      this.cluster.announceLayouts(change)
+      return this.followLayout(change)
+    }
     const row = await this.db.models.Layout.findByPk(id)
     if (!row || row.archivedAt || this.runtimes.has(row.slug)) return
     const runtime = await this.startRuntime(row)
@@ -197,16 +402,28 @@ export class LiveService {
    */
   async reloadLayout(id: number): Promise<void> {
     await this.ready
+    if (this.cluster) {
+      const found = await this.db.models.Layout.findByPk(id)
+      if (!found || found.archivedAt) return
+      const change = { action: 'reload' as const, id, slug: found.slug }
+      this.cluster.announceLayouts(change)
+      return this.followLayout(change)
+    }
+    return this.reloadOwned(id)
+  }
+
+  private async reloadOwned(id: number): Promise<void> {
     const row = await this.db.models.Layout.findByPk(id)
     if (!row || row.archivedAt) return
+    const epoch = this.ownerEpochs.get(row.slug)
     const old = this.runtimes.get(row.slug)
     if (!old) return this.startLayout(id)
     const checked = validateLayout(row.definition)
     if (!checked.ok) return
     old.stop()
-    const runtime = this.newRuntime(row, checked.layout, carryState(old.state(), checked.layout), carryAreas(old.areaHolders(), checked.layout), old.currentSession())
+    const runtime = this.newRuntime(row, checked.layout, carryState(old.state(), checked.layout), carryAreas(old.areaHolders(), checked.layout), old.currentSession(), epoch)
     this.runtimes.set(row.slug, runtime)
-    this.hub.broadcast(row.slug, runtime.snapshot())
+    this.toPanels(row.slug, runtime.snapshot())
     for (const { user, count } of old.connectedOperators()) for (let i = 0; i < count; i++) runtime.connect(user)
     runtime.publishAllRetained()
     log(`layout ${row.slug} reloaded at version ${row.version}`)
@@ -214,11 +431,22 @@ export class LiveService {
 
   /** An archived or deleted layout stops running; its panels are told. */
   stopLayout(slug: string): void {
+    if (this.cluster) {
+      const id = [...this.layoutSlugs].find(([, s]) => s === slug)?.[0] ?? 0
+      this.cluster.announceLayouts({ action: 'stop', id, slug })
+      void this.followLayout({ action: 'stop', id, slug })
+      return
+    }
+    this.stopRuntime(slug)
+  }
+
+  private stopRuntime(slug: string): void {
     const runtime = this.runtimes.get(slug)
     if (!runtime) return
     runtime.stop()
     this.runtimes.delete(slug)
-    this.hub.broadcast(slug, { type: 'error', message: `layout: "${slug}" no longer runs (archived or deleted).` })
+    this.toPanels(slug, { type: 'error', message: `layout: "${slug}" no longer runs (archived or deleted).` })
+    this.ownerEpochs.delete(slug)
     log(`layout ${slug} stopped`)
   }
 
@@ -299,6 +527,13 @@ export class LiveService {
   async close(): Promise<void> {
     clearInterval(this.heartbeat)
     for (const runtime of this.runtimes.values()) runtime.stop()
+    if (this.cluster) {
+      // What the runtimes queued is written under their epoch before the locks go.
+      await this.journal.flush()
+      await this.ownership?.stop()
+      await this.cluster.close()
+      this.client = null
+    }
     await new Promise<void>(resolve => this.client ? this.client.end(false, {}, () => resolve()) : resolve())
     await this.broker?.close()
     await this.journal.close()

@@ -69,3 +69,44 @@ export const isRetainedInput = (relativeTopic: string) => /^turnout\/[^/]+$/.tes
 export function signalPayload(indication: Indication, at: number): string {
   return JSON.stringify({ aspect: indication.aspect, indicator: indication.indicator, override: indication.override, exceedsLine: indication.exceedsLine, at })
 }
+
+/**
+ * Topics between Blockbell server processes sharing one broker (several processes, one owner per layout),
+ * under a root of their own so no device topic can match them. Devices must never publish or subscribe
+ * here: the embedded broker allows devices only the `blockbell/v1/...` topics above, and an external
+ * broker's ACL must keep them off `blockbell-servers/#` (README).
+ */
+export const SERVER_TOPIC_ROOT = 'blockbell-servers/v1'
+export const serverTopics = {
+  /** Every message the owner sends a layout's panels (snapshots, deltas with their seq), with its epoch. */
+  panels: (slug: string) => `${SERVER_TOPIC_ROOT}/layout/${slug}/panels`,
+  /** Requests to a layout's owner (MQTT 5 request/response: response topic and correlation data). */
+  requests: (slug: string) => `${SERVER_TOPIC_ROOT}/layout/${slug}/requests`,
+  /** Layout saved, made, archived: every process follows. */
+  layouts: `${SERVER_TOPIC_ROOT}/layouts`,
+  /** Where a process takes its answers. */
+  responses: (instance: string) => `${SERVER_TOPIC_ROOT}/instance/${instance}/responses`,
+  /** Retained `online` / `offline` (last will) of a process. */
+  status: (instance: string) => `${SERVER_TOPIC_ROOT}/instance/${instance}/status`,
+} as const
+
+/** Filters every server process subscribes to. */
+export const SERVER_FILTERS = [`${SERVER_TOPIC_ROOT}/layout/+/panels`, `${SERVER_TOPIC_ROOT}/layout/+/requests`, `${SERVER_TOPIC_ROOT}/layouts`, `${SERVER_TOPIC_ROOT}/instance/+/status`]
+
+/** Input topics of one layout (the owner's own subscription). */
+export const layoutInputFilters = (slug: string) => [relative.detector('+'), relative.turnout('+'), relative.deviceStatus('+')].map(t => layoutTopic(slug, t))
+
+export type ServerTopic
+  = | { kind: 'panels' | 'requests', slug: string }
+    | { kind: 'layouts' }
+    | { kind: 'responses' | 'status', instance: string }
+
+export function parseServerTopic(topic: string): ServerTopic | null {
+  if (!topic.startsWith(`${SERVER_TOPIC_ROOT}/`)) return null
+  const parts = topic.slice(SERVER_TOPIC_ROOT.length + 1).split('/')
+  if (parts[0] === 'layouts' && parts.length === 1) return { kind: 'layouts' }
+  if (parts.length !== 3 || !parts[1]) return null
+  if (parts[0] === 'layout' && (parts[2] === 'panels' || parts[2] === 'requests')) return { kind: parts[2], slug: parts[1] }
+  if (parts[0] === 'instance' && (parts[2] === 'responses' || parts[2] === 'status')) return { kind: parts[2], instance: parts[1] }
+  return null
+}

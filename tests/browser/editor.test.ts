@@ -123,6 +123,13 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
     await page.goto(`/layouts/${slug}/versions`)
     await expect.poll(() => page.getByTestId('version-2').textContent(), POLL).toMatch(/current.*4 blocks, 4 links, 1 turnout, 2 signals added; 1 block changed/s)
     await screenshot(page, 'versions-1024x768')
+    // an older version opens read only, drawn at a readable size
+    await page.getByTestId('version-1').getByRole('link', { name: 'Open' }).tap()
+    await page.waitForURL(`**/layouts/${slug}/versions/1`)
+    const drawing = page.getByTestId('version-diagram')
+    await drawing.waitFor()
+    expect((await drawing.boundingBox())!.height).toBeGreaterThan(250)
+    await screenshot(page, 'version-1-1024x768')
 
     // it runs on the Panel at once: a detector report from the layout lights the block
     await page.goto(`/panel/${slug}`)

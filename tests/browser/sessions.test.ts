@@ -112,6 +112,10 @@ describe('reviewing a session in the browser', () => {
     const block = page.getByTestId('session-replay').getByTestId('block-UM4')
     await block.waitFor()
     expect(await block.getAttribute('data-occupied')).toBe('false')
+    // drawn at a size one can read: the diagram box is not squeezed to nothing
+    const drawn = (await page.getByTestId('session-replay').getByTestId('diagram').boundingBox())!
+    expect(drawn.height).toBeGreaterThan(250)
+    expect((await block.boundingBox())!.width).toBeGreaterThan(20)
     const spadAt = Date.parse((await (await fetch(`${BASE_URL}/api/sessions/${sessionId}`, { headers: { cookie: (await signedIn('viewer')).cookieHeader } })).json()).session.summary.dangerPasses[0].at)
     await slider.evaluate((el, v) => {
       const input = el as HTMLInputElement

@@ -26,7 +26,7 @@ describe('migrations', () => {
   it('apply from an empty database and create every table', async () => {
     const done = await createMigrator(db.sequelize).up()
     expect(done.map(m => m.name)).toEqual(migrations.map(m => m.name))
-    expect(await tableNames()).toEqual(['cleaning_thresholds', 'cleanings', 'devices', 'ended_sessions', 'events', 'invitations', 'layout_versions', 'layout_wiring', 'layouts', 'migrations', 'operating_sessions', 'outbox', 'password_resets', 'session_checkpoints', 'session_graph_data', 'session_train_steps', 'users'])
+    expect(await tableNames()).toEqual(['cleaning_thresholds', 'cleanings', 'devices', 'ended_sessions', 'events', 'invitations', 'layout_owners', 'layout_versions', 'layout_wiring', 'layouts', 'migrations', 'operating_sessions', 'outbox', 'password_resets', 'session_checkpoints', 'session_graph_data', 'session_train_steps', 'users'])
   })
 
   it('index the journal for time-range and per-session queries', async () => {

@@ -70,6 +70,9 @@ export async function startServer(env: Record<string, string>): Promise<Running 
   const running = track(child)
   const url = `http://127.0.0.1:${port}`
   await waitFor(async () => (await fetch(`${url}/api/health`)).ok, 30_000, 'the second Blockbell server')
+  // /api/health answers before the live side has its embedded broker listening: wait for that too.
+  const brokerPort = Number(env.MQTT_PORT)
+  if (!env.MQTT_URL && brokerPort > 0) await waitFor(() => portOpen(brokerPort), 30_000, 'the second Blockbell server\'s MQTT broker')
   return { ...running, url }
 }
 

@@ -5,6 +5,7 @@ import * as mailInvitationsResets from './0005-mail-invitations-resets'
 import * as operatingSessionReview from './0006-operating-session-review'
 import * as layoutEditing from './0007-layout-editing'
 import * as trackCleaning from './0010-track-cleaning'
+import * as layoutOwners from './0011-layout-owners'
 import * as sessionLayoutVersion from './0015-session-layout-version'
 import * as sessionTrainSteps from './0016-session-train-steps'
 
@@ -20,6 +21,7 @@ export const migrations = [
   { name: '0006-operating-session-review', ...operatingSessionReview },
   { name: '0007-layout-editing', ...layoutEditing },
   { name: '0010-track-cleaning', ...trackCleaning },
+  { name: '0011-layout-owners', ...layoutOwners },
   { name: '0015-session-layout-version', ...sessionLayoutVersion },
   { name: '0016-session-train-steps', ...sessionTrainSteps },
 ]
