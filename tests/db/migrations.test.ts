@@ -43,7 +43,8 @@ describe('migrations', () => {
     expect(pk!.indexdef).toMatch(/\(session_id, event_id\)/)
     const triggers = await db.sequelize.query<{ tgname: string }>(
       `SELECT tgname FROM pg_trigger WHERE tgrelid = 'events'::regclass AND NOT tgisinternal`, { type: QueryTypes.SELECT })
-    expect(triggers.map(t => t.tgname)).toEqual(['events_session_train_steps'])
+    // the journal's triggers: train steps for the session review, block tallies for the maintenance counters
+    expect(triggers.map(t => t.tgname).sort()).toEqual(['events_block_tallies_add', 'events_block_tallies_remove', 'events_session_train_steps'])
     const [column] = await db.sequelize.query<{ n: string }>(
       `SELECT count(*) AS n FROM information_schema.columns WHERE table_name = 'operating_sessions' AND column_name = 'layout_version'`, { type: QueryTypes.SELECT })
     expect(Number(column!.n)).toBe(1)
