@@ -36,9 +36,13 @@ export default defineNuxtConfig({
   },
   dir: { app: 'app' },
   srcDir: '.',
+  // Photo uploads check their own size (10 MB) and say so; other bodies keep nuxt-security's limits.
+  routeRules: { '/api/uploads': { security: { requestSizeLimiter: false } } },
   compatibilityDate: '2025-07-15',
   nitro: {
     experimental: { websocket: true },
+    // Uploaded photos (server/utils/uploads.ts); server/plugins/uploads-storage.ts can move them by configuration.
+    storage: { uploads: { driver: 'fs', base: './.data/uploads' } },
     errorHandler: ['~/server/error-handler', nuxtErrorHandler],
   },
   typescript: { strict: true },

@@ -195,7 +195,8 @@ async function main() {
     await db.sequelize.close()
     await cluster?.destroy()
   }
-  if (!useEnv) await benchSessions()
+  // --journal-only: parts 1-3 alone (no build needed)
+  if (!useEnv && !process.argv.includes('--journal-only')) await benchSessions()
 }
 
 main().catch((error) => { console.error(error); process.exitCode = 1 })

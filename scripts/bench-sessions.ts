@@ -9,7 +9,7 @@ import { join } from 'node:path'
 import { QueryTypes } from 'sequelize'
 import { initialState, validateLayout } from '#shared/signalling'
 import demo from '#shared/layouts/demo-layout.json'
-import { openDatabase } from '../server/database/connection'
+import { openDatabase, type Database } from '../server/database/connection'
 import { createMigrator } from '../server/database/migrator'
 import { seedDemoData } from '../server/database/seed'
 import { freePort, startThrowawayPostgres } from '../tests/support/postgres'
@@ -35,6 +35,47 @@ function rssOf(pid: number): number {
   return Number(/VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'))![1]) * 1024
 }
 
+/** One ended four-hour session of EVENTS synthetic events on the demo layout (seeded first). */
+export async function fillBenchSession(db: Database) {
+  const layout = validateLayout(demo)
+  if (!layout.ok) throw new Error('demo layout invalid')
+  const [{ id: layoutId }] = await db.sequelize.query<{ id: number }>(`SELECT id FROM layouts WHERE slug = 'wrenfold'`, { type: QueryTypes.SELECT }) as [{ id: number }]
+  const end = Date.now()
+  const start = end - HOURS * 3_600_000
+  const session = await db.models.OperatingSession.create({ layoutId, layoutVersion: 1, name: 'Bench night', startedAt: new Date(start), endedAt: new Date(end), fastClockRatio: 4 })
+  const state = initialState(layout.layout)
+  for (const t of Object.keys(state.turnouts)) state.turnouts[t] = 'normal'
+  await db.sequelize.query(`INSERT INTO session_checkpoints (session_id, event_id, at, events_folded, state) VALUES (:id, 0, :at, 0, :state)`,
+    { replacements: { id: session.id, at: new Date(start), state: JSON.stringify({ engine: state, areas: { main: null, branch: null } }) } })
+  const t0 = performance.now()
+  // 1,000,000 events over four hours: 40 % detector inputs (the replay folds them), 25 % block changes,
+  // 15 % indications, 10 % train descriptions stepping along the up main, 5 % commands, 4 % speeds, 1 % alarms.
+  await db.sequelize.query(`
+    INSERT INTO events (layout_id, session_id, at, type, subject, payload, user_id)
+    SELECT :layoutId, :sessionId, to_timestamp(:start / 1000.0) + g * (:span * interval '1 millisecond'),
+      k.type, k.subject, k.payload, k.user_id
+    FROM generate_series(1, :events) AS g,
+    LATERAL (SELECT CASE WHEN g % 100 < 40 THEN 'detector-input' WHEN g % 100 < 65 THEN 'block' WHEN g % 100 < 80 THEN 'indication'
+        WHEN g % 100 < 90 THEN 'description' WHEN g % 100 < 95 THEN 'command' WHEN g % 100 < 99 THEN 'speed' ELSE 'alarm' END AS type,
+      'UM' || (g / 100 % 4 + 1) AS block, 'D0' || (g / 100 % 4 + 1) AS detector, '1F' || lpad((g / 400 % 20 + 1)::text, 2, '0') AS train) AS v,
+    LATERAL (SELECT v.type,
+      CASE v.type WHEN 'detector-input' THEN v.detector WHEN 'indication' THEN 'SU1' WHEN 'command' THEN 'SU1' WHEN 'alarm' THEN 'SU3' ELSE v.block END AS subject,
+      CASE v.type
+        WHEN 'detector-input' THEN jsonb_build_object('type', 'detector', 'detector', v.detector, 'occupied', g % 2 = 0)
+        WHEN 'block' THEN jsonb_build_object('type', 'block', 'block', v.block, 'occupied', g % 2 = 0)
+        WHEN 'indication' THEN jsonb_build_object('type', 'indication', 'signal', 'SU1', 'indication', jsonb_build_object('aspect', 'caution', 'indicator', null))
+        WHEN 'description' THEN jsonb_build_object('type', 'description', 'block', v.block, 'description', v.train, 'reason', 'step', 'from', 'UM1')
+        WHEN 'command' THEN jsonb_build_object('action', 'set-override', 'signal', 'SU1', 'mode', CASE WHEN g % 2 = 0 THEN 'hold' ELSE 'auto' END, 'revision', 0)
+        WHEN 'speed' THEN jsonb_build_object('type', 'speed', 'block', v.block, 'description', v.train, 'lengthMm', 1500, 'seconds', 6, 'kmh', 68.6, 'mph', 42.6)
+        ELSE jsonb_build_object('type', 'alarm', 'alarm', jsonb_build_object('id', 'A' || g, 'kind', 'spad', 'signal', 'SU3', 'block', 'UM4', 'description', v.train, 'at', (:start + g * :span)::bigint, 'acknowledgedAt', null))
+      END AS payload,
+      CASE WHEN v.type = 'command' THEN 2 ELSE NULL END AS user_id) AS k`,
+  { replacements: { layoutId, sessionId: session.id, start, span: (end - start) / EVENTS, events: EVENTS } })
+  await db.sequelize.query('ANALYZE events')
+  console.log(`\n4. A session's review: ${EVENTS.toLocaleString('en')} events over ${HOURS} hours inserted in ${((performance.now() - t0) / 1000).toFixed(1)} s`)
+  return { session, start, end }
+}
+
 export async function benchSessions(): Promise<void> {
   const cluster = await startThrowawayPostgres({ fast: true })
   const db = openDatabase(cluster.settings)
@@ -43,42 +84,7 @@ export async function benchSessions(): Promise<void> {
   try {
     await createMigrator(db.sequelize).up()
     await seedDemoData(db)
-    const layout = validateLayout(demo)
-    if (!layout.ok) throw new Error('demo layout invalid')
-    const [{ id: layoutId }] = await db.sequelize.query<{ id: number }>(`SELECT id FROM layouts WHERE slug = 'wrenfold'`, { type: QueryTypes.SELECT }) as [{ id: number }]
-    const end = Date.now()
-    const start = end - HOURS * 3_600_000
-    const session = await db.models.OperatingSession.create({ layoutId, name: 'Bench night', startedAt: new Date(start), endedAt: new Date(end), fastClockRatio: 4 })
-    const state = initialState(layout.layout)
-    for (const t of Object.keys(state.turnouts)) state.turnouts[t] = 'normal'
-    await db.sequelize.query(`INSERT INTO session_checkpoints (session_id, event_id, at, events_folded, state) VALUES (:id, 0, :at, 0, :state)`,
-      { replacements: { id: session.id, at: new Date(start), state: JSON.stringify({ engine: state, areas: { main: null, branch: null } }) } })
-    const t0 = performance.now()
-    // 1,000,000 events over four hours: 40 % detector inputs (the replay folds them), 25 % block changes,
-    // 15 % indications, 10 % train descriptions stepping along the up main, 5 % commands, 4 % speeds, 1 % alarms.
-    await db.sequelize.query(`
-      INSERT INTO events (layout_id, session_id, at, type, subject, payload, user_id)
-      SELECT :layoutId, :sessionId, to_timestamp(:start / 1000.0) + g * (:span * interval '1 millisecond'),
-        k.type, k.subject, k.payload, k.user_id
-      FROM generate_series(1, :events) AS g,
-      LATERAL (SELECT CASE WHEN g % 100 < 40 THEN 'detector-input' WHEN g % 100 < 65 THEN 'block' WHEN g % 100 < 80 THEN 'indication'
-          WHEN g % 100 < 90 THEN 'description' WHEN g % 100 < 95 THEN 'command' WHEN g % 100 < 99 THEN 'speed' ELSE 'alarm' END AS type,
-        'UM' || (g / 100 % 4 + 1) AS block, 'D0' || (g / 100 % 4 + 1) AS detector, '1F' || lpad((g / 400 % 20 + 1)::text, 2, '0') AS train) AS v,
-      LATERAL (SELECT v.type,
-        CASE v.type WHEN 'detector-input' THEN v.detector WHEN 'indication' THEN 'SU1' WHEN 'command' THEN 'SU1' WHEN 'alarm' THEN 'SU3' ELSE v.block END AS subject,
-        CASE v.type
-          WHEN 'detector-input' THEN jsonb_build_object('type', 'detector', 'detector', v.detector, 'occupied', g % 2 = 0)
-          WHEN 'block' THEN jsonb_build_object('type', 'block', 'block', v.block, 'occupied', g % 2 = 0)
-          WHEN 'indication' THEN jsonb_build_object('type', 'indication', 'signal', 'SU1', 'indication', jsonb_build_object('aspect', 'caution', 'indicator', null))
-          WHEN 'description' THEN jsonb_build_object('type', 'description', 'block', v.block, 'description', v.train, 'reason', 'step', 'from', 'UM1')
-          WHEN 'command' THEN jsonb_build_object('action', 'set-override', 'signal', 'SU1', 'mode', CASE WHEN g % 2 = 0 THEN 'hold' ELSE 'auto' END, 'revision', 0)
-          WHEN 'speed' THEN jsonb_build_object('type', 'speed', 'block', v.block, 'description', v.train, 'lengthMm', 1500, 'seconds', 6, 'kmh', 68.6, 'mph', 42.6)
-          ELSE jsonb_build_object('type', 'alarm', 'alarm', jsonb_build_object('id', 'A' || g, 'kind', 'spad', 'signal', 'SU3', 'block', 'UM4', 'description', v.train, 'at', (:start + g * :span)::bigint, 'acknowledgedAt', null))
-        END AS payload,
-        CASE WHEN v.type = 'command' THEN 2 ELSE NULL END AS user_id) AS k`,
-    { replacements: { layoutId, sessionId: session.id, start, span: (end - start) / EVENTS, events: EVENTS } })
-    await db.sequelize.query('ANALYZE events')
-    console.log(`\n4. A session's review: ${EVENTS.toLocaleString('en')} events over ${HOURS} hours inserted in ${((performance.now() - t0) / 1000).toFixed(1)} s`)
+    const { session, start, end } = await fillBenchSession(db)
 
     const port = await freePort()
     const mqttPort = await freePort()
@@ -121,7 +127,17 @@ export async function benchSessions(): Promise<void> {
     console.log(`   replay checkpoints built once for the whole session: ${n} in ${ms(performance.now() - tc)}`)
     await timed('replay seek to the middle', 20, i => get(`${api}/replay?at=${Math.round((start + end) / 2) + i * 7_919}`))
     await timed('replay seek to the end', 20, i => get(`${api}/replay?at=${end - i * 7_919}`))
-    await timed('time-distance data, route UM1-UM4, four hours', 10, () => get(`${api}/graph?route=UM1,UM2,UM3,UM4`))
+    let drawn: { thinning?: { points: number, shown: number } | null, trains: { points: unknown[] }[] } | null = null
+    const tg = performance.now()
+    await get(`${api}/graph?route=UM1,UM2,UM3,UM4&width=1200`)
+    console.log(`   time-distance data, first request (stores the session's train moves): ${ms(performance.now() - tg)}`)
+    await timed('time-distance data, route UM1-UM4, four hours, 1200 px wide', 10, async () => { drawn = await get(`${api}/graph?route=UM1,UM2,UM3,UM4&width=1200`) })
+    const thin = drawn!.thinning
+    console.log(`     ${thin ? `thinned to ${thin.shown.toLocaleString('en')} of ${thin.points.toLocaleString('en')} points` : 'every point drawn'}`)
+    const mid = Math.round((start + end) / 2)
+    await timed('time-distance data, route UM1-UM4, a 15-minute span zoomed to, 1200 px wide', 10, async () => { drawn = await get(`${api}/graph?route=UM1,UM2,UM3,UM4&width=1200&from=${mid}&to=${mid + 900_000}`) })
+    const spanThin = drawn!.thinning
+    console.log(`     ${spanThin ? `thinned to ${spanThin.shown.toLocaleString('en')} of ${spanThin.points.toLocaleString('en')} points` : `every point drawn (${drawn!.trains.reduce((n, t) => n + t.points.filter(Boolean).length, 0).toLocaleString('en')})`}`)
 
     const pid = server.pid!
     const idle = rssOf(pid)

@@ -37,7 +37,8 @@ const env = {
   BLOCKBELL_DB_USER: pg.settings.username, BLOCKBELL_DB_PASSWORD: pg.settings.password, MQTT_URL: url, MQTT_PORT: '0',
   BLOCKBELL_DETECTOR_DEBOUNCE_MS: '0', NUXT_SESSION_PASSWORD: 'bench-session-password-at-least-32-chars',
 }
-const owns = async (server: { url: string }) => ((await (await fetch(`${server.url}/api/health`)).json()) as { owns: string[] }).owns.includes('wrenfold')
+// The demo has one layout (wrenfold): the public count says whether this process runs it.
+const owns = async (server: { url: string }) => ((await (await fetch(`${server.url}/api/health`)).json()) as { layoutsOwned: number }).layoutsOwned > 0
 const first = await startServer({ ...env, BLOCKBELL_INSTANCE: 'bench-a' })
 while (!await owns(first)) await sleep(100)
 const second = await startServer({ ...env, BLOCKBELL_INSTANCE: 'bench-b' })

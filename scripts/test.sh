@@ -59,6 +59,8 @@ export BLOCKBELL_TEST_DATA="$RUN_DIR"
 export BLOCKBELL_TEST_MQTT_URL="mqtt://127.0.0.1:$MQTT_TEST_PORT"
 # The e2e server believes X-Forwarded-* only from 127.0.0.3 (a stand-in reverse proxy; tests/e2e/transport.test.ts).
 export BLOCKBELL_TRUSTED_PROXIES=127.0.0.3
+# Uploaded photos go to a folder of this run; tests/e2e/uploads.test.ts looks in it.
+export BLOCKBELL_UPLOADS_DIR="$RUN_DIR/uploads"
 
 if [ "${BLOCKBELL_TEST_SKIP_BUILD:-0}" = 1 ] && [ -f .output/server/index.mjs ]; then
   log "Using the existing build in .output (BLOCKBELL_TEST_SKIP_BUILD=1)"

@@ -73,7 +73,7 @@ sh -c 'exec ./node_modules/.bin/tsx fake-hardware/index.ts' > "$DATA_DIR/two-ser
 PIDS+=($!)
 
 printf '\n  Two Blockbell processes share mosquitto on 127.0.0.1:%s:\n    http://127.0.0.1:%s   http://127.0.0.1:%s\n' "$BROKER_PORT" "$PORT_A" "$PORT_B"
-printf '  Which one runs the layout: curl -s http://127.0.0.1:%s/api/health\n\n' "$PORT_A"
+printf '  Which one runs the layout: curl -s http://127.0.0.1:%s/api/health ("layoutsOwned"; an admin signed in sees the slugs)\n\n' "$PORT_A"
 ./node_modules/.bin/tsx server/database/cli.ts accounts
 printf '\n  Press Ctrl-C to stop everything.\n\n'
 wait

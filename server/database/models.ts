@@ -51,6 +51,7 @@ export class OperatingSession extends Model<InferAttributes<OperatingSession>, I
   declare fastClockStart: CreationOptional<string | null>
   declare notes: CreationOptional<string | null>
   declare endedBy: ForeignKey<User['id']> | null
+  declare layoutVersion: CreationOptional<number | null>
 }
 
 export class JournalEvent extends Model<InferAttributes<JournalEvent>, InferCreationAttributes<JournalEvent>> {
@@ -186,6 +187,7 @@ export function defineModels(sequelize: Sequelize): Models {
     fastClockRatio: { type: DataTypes.REAL, allowNull: false, defaultValue: 1 },
     fastClockStart: { type: DataTypes.STRING(5), allowNull: true },
     notes: { type: DataTypes.TEXT, allowNull: true },
+    layoutVersion: { type: DataTypes.INTEGER, allowNull: true },
   }, { sequelize, tableName: 'operating_sessions', underscored: true, timestamps: false })
 
   JournalEvent.init({

@@ -9,6 +9,17 @@ export type OwnerRequest
   = | { kind: 'snapshot' }
     | { kind: 'command', user: LiveUser, command: LiveCommand, madeAt?: number }
     | { kind: 'operators', instance: string, operators: { user: LiveUser, count: number }[] }
+    | { kind: 'work', name: string, input: unknown }
+
+/** The owner's answer to `work`: its result, or the HTTP error it would have answered itself. */
+export type OwnerWorkAnswer
+  = | { ok: true, value: unknown }
+    | { ok: false, statusCode: number, message: string, data?: unknown }
+
+/** What every process does when an account's sessions end, wherever the request landed. */
+export type AccountChange
+  = | { kind: 'one-session', sessionId: string }
+    | { kind: 'sessions-of', userId: number, version: number, releaseAreas: boolean }
 
 /** What the cluster link needs from the live service of its process. */
 export interface ClusterHost {
@@ -24,6 +35,10 @@ export interface ClusterHost {
   instanceGone(instance: string): void
   /** A layout was saved, made or archived on another process. */
   layoutsChanged(change: { action: 'start' | 'reload' | 'stop', id: number, slug: string }): void
+  /** Work an HTTP request on another process asked of this layout's owner (starting a session, ...). */
+  ownerWork(slug: string, name: string, input: unknown): Promise<OwnerWorkAnswer>
+  /** Another process ended sessions of an account: close its panels here, release its areas if asked. */
+  accountChanged(change: AccountChange): void
   /** A device message on an input topic of a layout this process owns. */
   input(topic: string, payload: Buffer): void
 }
@@ -69,6 +84,11 @@ export class ClusterLink {
 
   announceLayouts(change: { action: 'start' | 'reload' | 'stop', id: number, slug: string }): void {
     this.client.publish(serverTopics.layouts, JSON.stringify({ ...change, instance: this.instance }), { qos: 1 })
+  }
+
+  /** Tells every other process that sessions of an account ended. */
+  announceAccount(change: AccountChange): void {
+    this.client.publish(serverTopics.accounts, JSON.stringify({ ...change, instance: this.instance }), { qos: 1 })
   }
 
   /** Asks the layout's owner; rejects after OWNER_ANSWER_MS without an answer. */
@@ -122,6 +142,7 @@ export class ClusterLink {
       if (where.kind === 'panels') return this.onPanels(where.slug, body)
       if (where.kind === 'requests') return this.onRequest(where.slug, body, packet)
       if (where.kind === 'layouts' && body?.instance !== this.instance) return this.host.layoutsChanged(body)
+      if (where.kind === 'accounts' && body?.instance !== this.instance) return this.host.accountChanged(body)
       if (where.kind === 'status' && where.instance !== this.instance && String(payload) === 'offline') return this.host.instanceGone(where.instance)
     } catch (error) {
       log(`cluster message on ${topic} failed: ${(error as Error).message}`)
@@ -151,6 +172,14 @@ export class ClusterLink {
     if (request.kind === 'snapshot') answer = runtime.snapshot()
     else if (request.kind === 'command') answer = runtime.command(request.user, request.command, request.madeAt) satisfies CommandOutcome
     else if (request.kind === 'operators') return this.host.remoteOperators(slug, request.instance, request.operators)
+    else if (request.kind === 'work') {
+      void this.host.ownerWork(slug, request.name, request.input).then(done => this.answer(packet, done))
+      return
+    }
+    this.answer(packet, answer)
+  }
+
+  private answer(packet: IPublishPacket, answer: unknown): void {
     const responseTopic = packet.properties?.responseTopic
     if (!responseTopic) return
     this.client.publish(responseTopic, JSON.stringify(answer), { qos: 1, properties: { correlationData: packet.properties?.correlationData } })

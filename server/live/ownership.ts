@@ -9,6 +9,26 @@ export const OWNERSHIP_TICK_MS = 1000
 /** A check that takes longer than this counts as a lost connection: ownership is given up at once. */
 export const OWNERSHIP_CHECK_TIMEOUT_MS = 2000
 
+/**
+ * TCP keepalive PostgreSQL keeps on the lock connection (set per connection, so no server setting is
+ * needed). When the network between the owner and PostgreSQL goes silent, without a reset, PostgreSQL
+ * frees the owner's locks once idle + interval x count seconds pass without an answer: about 11 s after the
+ * last check, where the operating system's default is over two hours. The owner itself stops within its
+ * 2 s check, well before. (Ignored on a Unix-domain socket, where there is no network to drop.)
+ */
+export const LOCK_KEEPALIVE = { idleS: 5, intervalS: 2, count: 3, userTimeoutMs: 10_000 } as const
+
+/** The connection settings of the lock connection (its own, outside Sequelize's pool). */
+export function lockConnectionConfig(db: DatabaseSettings, instance: string): pg.ClientConfig {
+  const k = LOCK_KEEPALIVE
+  return {
+    host: db.host, port: db.port, database: db.database, user: db.username, password: db.password,
+    application_name: `blockbell-owner-${instance}`.slice(0, 63), connectionTimeoutMillis: OWNERSHIP_CHECK_TIMEOUT_MS,
+    keepAlive: true, keepAliveInitialDelayMillis: 1000,
+    options: `-c tcp_keepalives_idle=${k.idleS} -c tcp_keepalives_interval=${k.intervalS} -c tcp_keepalives_count=${k.count} -c tcp_user_timeout=${k.userTimeoutMs}`,
+  }
+}
+
 export interface OwnershipEvents {
   /** This process now owns the layout, under `epoch` (bumped in `layout_owners`). */
   acquired: (layoutId: number, epoch: number) => Promise<void> | void
@@ -100,11 +120,7 @@ export class LayoutOwnership {
 
   private async connection(): Promise<pg.Client> {
     if (this.client) return this.client
-    const client = new pg.Client({
-      host: this.db.host, port: this.db.port, database: this.db.database, user: this.db.username, password: this.db.password,
-      application_name: `blockbell-owner-${this.instance}`.slice(0, 63), connectionTimeoutMillis: OWNERSHIP_CHECK_TIMEOUT_MS,
-      keepAlive: true, keepAliveInitialDelayMillis: 1000,
-    })
+    const client = new pg.Client(lockConnectionConfig(this.db, this.instance))
     // An error or end of this connection ends every lock it held: give them up before anything else runs.
     client.on('error', error => this.dropConnection(`lock connection failed: ${error.message}`, client))
     client.on('end', () => this.dropConnection('lock connection closed', client))

@@ -20,7 +20,7 @@ import { LayoutRuntime, type CommandOutcome } from './runtime'
 import { restoreLayoutState } from './restore'
 import { carryAreas, carryState } from './layout-reload'
 import { runningLiveSession } from './session-live'
-import { ClusterLink, type ClusterHost, type OwnerRequest } from './cluster'
+import { ClusterLink, type AccountChange, type ClusterHost, type OwnerRequest, type OwnerWorkAnswer } from './cluster'
 import { LayoutOwnership } from './ownership'
 import { databaseSettings } from '../database/config'
 
@@ -102,6 +102,7 @@ export class LiveService implements ClusterHost {
   private layoutSlugs = new Map<number, string>()
   private ownerEpochs = new Map<string, number>()
   private remotePanels = new Map<string, Map<string, { user: LiveUser, count: number }[]>>()
+  private ownerWorkers = new Map<string, (input: unknown) => Promise<unknown>>()
 
   constructor(private readonly db: Database, private readonly settings: LiveSettings) {
     this.journal = createJournal({ sequelize: db.sequelize, spillDir: join(settings.dataDir, 'journal-spill'), log })
@@ -130,28 +131,53 @@ export class LiveService implements ClusterHost {
     return known === undefined || known === session.version
   }
 
-  /** One session was signed out: its panels close at once. */
+  /** One session was signed out: its panels close at once, on every process. */
   endOneSession(sessionId: string): void {
-    this.endedSessions.add(sessionId)
-    for (const panel of [...this.panels]) {
-      if (panel.session.id !== sessionId) continue
-      this.panels.delete(panel)
-      panel.end()
-    }
+    const change = { kind: 'one-session', sessionId } as const
+    this.accountChanged(change)
+    this.cluster?.announceAccount(change)
   }
 
   /**
    * An account's sessions have ended (its session version is now `version`): its panels are closed at
-   * once and, for a disabled account, the areas it held are released on every layout.
+   * once and, for a disabled account, the areas it held are released on every layout; on every process.
    */
   endSessionsOf(userId: number, version: number, { releaseAreas }: { releaseAreas: boolean }): void {
+    const change = { kind: 'sessions-of', userId, version, releaseAreas } as const
+    this.accountChanged(change)
+    this.cluster?.announceAccount(change)
+  }
+
+  /** Sessions of an account ended (here or on another process): what this process has of them goes. */
+  accountChanged(change: AccountChange): void {
+    if (change.kind === 'one-session') {
+      this.endedSessions.add(change.sessionId)
+      for (const panel of [...this.panels]) {
+        if (panel.session.id !== change.sessionId) continue
+        this.panels.delete(panel)
+        panel.end()
+      }
+      return
+    }
+    const { userId, version, releaseAreas } = change
     this.noteSessionVersion(userId, version)
     for (const panel of [...this.panels]) {
       if (panel.user.id !== userId || panel.session.version === version) continue
       this.panels.delete(panel)
       panel.end()
     }
+    // Several processes: only the layouts this process owns are here (ownedRuntime), the owner of each other does its own.
     if (releaseAreas) for (const runtime of this.runtimes.values()) runtime.releaseAreasOf(userId)
+  }
+
+  /** Registers work an HTTP request on any process may need done by a layout's owner (see `ownerWork`). */
+  handleOwnerWork<I>(name: string, run: (input: I) => Promise<unknown>): void {
+    this.ownerWorkers.set(name, run as (input: unknown) => Promise<unknown>)
+  }
+
+  /** Has the owner of `slug` (another process) do registered work; its HTTP error comes back as an answer. */
+  async askOwner(slug: string, name: string, input: unknown): Promise<OwnerWorkAnswer> {
+    return this.cluster!.ask<OwnerWorkAnswer>(slug, { kind: 'work', name, input } satisfies OwnerRequest)
   }
 
   private async start(): Promise<void> {
@@ -286,6 +312,19 @@ export class LiveService implements ClusterHost {
   }
 
   input(topic: string, payload: Buffer): void { this.onMessage(topic, payload) }
+
+  async ownerWork(slug: string, name: string, input: unknown): Promise<OwnerWorkAnswer> {
+    const run = this.ownerWorkers.get(name)
+    if (!run || !this.ownedRuntime(slug)) return { ok: false, statusCode: 503, message: `The server asked no longer runs ${slug}; try again in a moment.` }
+    try {
+      return { ok: true, value: await run(input) }
+    } catch (error) {
+      const { statusCode, message, data } = error as { statusCode?: unknown, message?: string, data?: unknown }
+      if (typeof statusCode === 'number' && statusCode < 500) return { ok: false, statusCode, message: message ?? 'Refused.', data }
+      log(`${name} on ${slug} for another process failed: ${(error as Error).message}`)
+      return { ok: false, statusCode: 500, message: `The server that runs ${slug} could not do it (its log says why).` }
+    }
+  }
 
   /** Whether a layout runs on another process (several processes) and this one can relay it. */
   runsElsewhere(slug: string): boolean {

@@ -146,3 +146,23 @@ export function sessionSummaryMail(input: SessionSummary & { name: string, revie
     footer: footerFor(input.publicUrl),
   })
 }
+
+/** One layout's part of the weekly maintenance digest: a line per thing due. */
+export interface DigestSection { layoutName: string, lines: string[] }
+
+export function maintenanceDigestMail(input: { name: string, week: string, sections: DigestSection[], link: string, publicUrl: string }): RenderedMail {
+  const total = input.sections.reduce((n, s) => n + s.lines.length, 0)
+  return render(`Maintenance due this week (${input.week}): ${total} ${total === 1 ? 'item' : 'items'}`, {
+    heading: 'Maintenance due this week',
+    paragraphs: [
+      `Hello ${input.name},`,
+      'this is what is due or nearly due on the layouts you look after:',
+      ...input.sections.flatMap(s => [s.layoutName, s.lines.map(line => `- ${line}`)] as (string | string[])[]),
+    ],
+    action: { label: 'Open the Maintenance screen', url: input.link },
+    after: [
+      'Before cleaning track: isolate the track power. Cleaning fluids such as isopropyl alcohol are flammable: use little of it, in a ventilated room, away from heat and sparks, and follow the product\'s safety sheet.',
+    ],
+    footer: footerFor(input.publicUrl),
+  })
+}

@@ -69,6 +69,14 @@ export async function requireRole(event: H3Event, needed: Role): Promise<Session
   return user
 }
 
+/** The role of whoever is signed in with a session that still stands; null for anyone else (never throws 401). */
+export async function signedInRole(event: H3Event): Promise<Role | null> {
+  const session = await getUserSession(event)
+  if (!session.user) return null
+  const { row, current } = await checkSession(session)
+  return row && current ? row.role : null
+}
+
 /** Ends one session (signing out on one device): remembered until it would have expired, its panels closed. */
 export async function endOneSession(sessionId: string, userId: number): Promise<void> {
   const { EndedSession } = useDatabase().models

@@ -7,10 +7,12 @@ import type { Layout } from '#shared/schemas/layout'
 import { namesOf, type LayoutNames } from '#shared/live/feed'
 import { describeJournalRow } from '#shared/live/journal-text'
 import { areaIntervals, type AreaCommand } from '#shared/live/session-areas'
-import { buildTimeDistance } from '#shared/live/session-graph'
+import { fitGraph, timeDistanceOf, trainMovesOf, type GraphAlarm, type GraphDescriptionEvent, type TrainMove } from '#shared/live/session-graph'
 import type { SessionEventsQuery } from '#shared/schemas/session'
 import type { GraphData, JournalPayload, SessionEventRow, SessionEventsPage, SessionSummary } from '#shared/types/sessions'
 import type { CheckpointState } from '../live/session-replay'
+
+type PgManager = { getConnection(o: object): Promise<pg.PoolClient>, releaseConnection(c: pg.PoolClient): Promise<void> }
 
 interface EventRow { id: string, at: Date, type: string, subject: string | null, payload: JournalPayload, user_id: number | null }
 
@@ -47,11 +49,12 @@ export async function sessionSummary(sessionId: number, layout: Layout, startedA
   const commandCounts = await q<{ kind: string, user_id: number | null, count: string }>(`SELECT payload->>'action' AS kind, user_id, count(*) AS count
     FROM events WHERE session_id = :sessionId AND type = 'command' GROUP BY 1, 2 ORDER BY 1, 2`)
 
-  const steps = await q<{ description: string, moves: string, blocks: string[], first_at: Date, last_at: Date }>(`
-    SELECT payload->>'description' AS description, count(*) FILTER (WHERE payload->>'reason' = 'step') AS moves,
-      array_agg(subject ORDER BY id) AS blocks, min(at) AS first_at, max(at) AS last_at
-    FROM events WHERE session_id = :sessionId AND type = 'description' AND payload->>'description' IS NOT NULL
-    GROUP BY 1 ORDER BY min(at)`)
+  // the description entries, from their narrow copy (session_train_steps)
+  const steps = await q<{ description: string, moves: string, blocks: string[], first_at: string, last_at: string }>(`
+    SELECT description, count(*) FILTER (WHERE reason = 'step') AS moves,
+      array_agg(block ORDER BY event_id) AS blocks, min(at_ms) AS first_at, max(at_ms) AS last_at
+    FROM session_train_steps WHERE session_id = :sessionId AND reason IS DISTINCT FROM 'spad' AND description IS NOT NULL
+    GROUP BY 1 ORDER BY min(at_ms)`)
 
   const alarms = await q<{ payload: JournalPayload }>(`SELECT payload FROM events WHERE session_id = :sessionId AND type = 'alarm' AND coalesce(payload#>>'{alarm,kind}', 'spad') = 'spad' ORDER BY id`)
   const acks = await q<{ payload: JournalPayload, user_id: number | null }>(`SELECT payload, user_id FROM events WHERE session_id = :sessionId AND type = 'alarm-acknowledged' ORDER BY id`)
@@ -80,7 +83,7 @@ export async function sessionSummary(sessionId: number, layout: Layout, startedA
     commands: commandCounts.map(c => ({ kind: c.kind, person: c.user_id === null ? null : people.get(c.user_id) ?? null, count: Number(c.count) })),
     trains: steps.map(s => ({
       description: s.description, moves: Number(s.moves), blocks: [...new Set(s.blocks)].map(b => names.block(b)),
-      firstAt: s.first_at.toISOString(), lastAt: s.last_at.toISOString(),
+      firstAt: iso(Number(s.first_at)), lastAt: iso(Number(s.last_at)),
     })),
     dangerPasses,
     dropouts: dropouts.map(d => ({ block: d.block, blockName: names.block(d.block), count: Number(d.count) })),
@@ -146,9 +149,22 @@ function toEventRow(names: LayoutNames, people: Map<number, string>, r: EventRow
   }
 }
 
-/** One page of a session's log: keyset on the event id (no OFFSET), so a page is as fast at the end as at the start. */
-export async function sessionEventsPage(sessionId: number, layout: Layout, q: SessionEventsQuery): Promise<SessionEventsPage> {
+/**
+ * One page of a session's log: keyset on the event id (no OFFSET), so a page is as fast at the end as at the start.
+ * The ids are also bounded to the session's own (its first and, once ended, its last entry): walking the journal's
+ * primary key for a filter the planner finds common, it then never wades through the entries of other sessions.
+ */
+export async function sessionEventsPage(sessionId: number, layout: Layout, q: SessionEventsQuery, ended: boolean): Promise<SessionEventsPage> {
   const { where, replacements } = eventFilters(layout, q)
+  const [range] = await useDatabase().sequelize.query<{ lo: string | null, hi: string | null }>(
+    `SELECT min(id) AS lo, max(id) AS hi FROM events WHERE session_id = :sessionId`, { replacements: { sessionId }, type: QueryTypes.SELECT })
+  if (!range?.lo) return { rows: [], next: null }
+  where.push('id >= :firstId')
+  replacements.firstId = range.lo
+  if (ended) {
+    where.push('id <= :lastId')
+    replacements.lastId = range.hi
+  }
   if (q.after) {
     const cursor = decodeEventCursor(q.after, q.order)
     where.push(q.order === 'asc' ? 'id > :afterId' : 'id < :afterId')
@@ -186,7 +202,7 @@ export async function sessionCsvStream(sessionId: number, layout: Layout, q: Omi
       values.push(v)
       return `$${values.length}`
     })
-  const manager = useDatabase().sequelize.connectionManager as unknown as { getConnection(o: object): Promise<pg.PoolClient>, releaseConnection(c: pg.PoolClient): Promise<void> }
+  const manager = useDatabase().sequelize.connectionManager as unknown as PgManager
   const client = await manager.getConnection({ type: 'read' })
   let released = false
   const release = () => {
@@ -210,24 +226,86 @@ export async function sessionCsvStream(sessionId: number, layout: Layout, q: Omi
 
 // ---- the time-distance graph ----
 
-export async function sessionGraph(sessionId: number, layout: Layout, routeIds: string[], from: number, to: number): Promise<GraphData> {
+/** Rows as arrays, straight from pg: a long night's graph reads a hundred thousand of them. */
+async function selectArrays(sql: string, values: unknown[]): Promise<unknown[][]> {
+  const manager = useDatabase().sequelize.connectionManager as unknown as PgManager
+  const client = await manager.getConnection({ type: 'read' })
+  try {
+    return (await client.query({ text: sql, values, rowMode: 'array' })).rows as unknown[][]
+  } finally {
+    await manager.releaseConnection(client)
+  }
+}
+
+export interface GraphWindow { from?: number, to?: number, width: number }
+
+type StepRow = [at: string, block: string, description: string | null, reason: string | null, signal: string | null]
+
+function splitSteps(rows: StepRow[]): { steps: GraphDescriptionEvent[], alarms: GraphAlarm[] } {
+  const steps: GraphDescriptionEvent[] = []
+  const alarms: GraphAlarm[] = []
+  for (const [at, block, description, reason, signal] of rows) {
+    if (reason === 'spad') alarms.push({ at: Number(at), block, signal: signal ?? '', description })
+    else steps.push({ at: Number(at), block, description, reason: reason ?? '' })
+  }
+  return { steps, alarms }
+}
+
+/** A journal batch of a session can still arrive this long after it ends (as for its checkpoints). */
+const GRAPH_SETTLED_MS = 15_000
+const storingGraph = new Map<number, Promise<void>>()
+
+/** Stores an ended session's train moves and signals passed at danger (session_graph_data), once. */
+export function storeSessionGraph(sessionId: number): Promise<void> {
+  const running = storingGraph.get(sessionId)
+  if (running) return running
+  const work = (async () => {
+    const rows = await selectArrays(
+      `SELECT at_ms, block, description, reason, signal, event_id FROM session_train_steps WHERE session_id = $1 ORDER BY event_id`, [sessionId])
+    const { steps, alarms } = splitSteps(rows as StepRow[])
+    const through = rows.length ? String(rows[rows.length - 1]![5]) : '0'
+    await useDatabase().sequelize.query(
+      `INSERT INTO session_graph_data (session_id, through_event_id, trains, danger_passes)
+       SELECT id, :through, :trains, :alarms FROM operating_sessions WHERE id = :sessionId AND ended_at IS NOT NULL
+       ON CONFLICT (session_id) DO NOTHING`,
+      { replacements: { sessionId, through, trains: JSON.stringify([...trainMovesOf(steps)]), alarms: JSON.stringify(alarms) } })
+  })().finally(() => storingGraph.delete(sessionId))
+  storingGraph.set(sessionId, work)
+  return work
+}
+
+/** The session's train moves: stored once it has settled after its end, else from its steps as they stand. */
+async function sessionTrainMoves(sessionId: number, routeIds: string[], endedAt: number | null): Promise<{ trains: [string, TrainMove[]][], alarms: GraphAlarm[] }> {
+  if (endedAt !== null && Date.now() - endedAt > GRAPH_SETTLED_MS) {
+    const read = () => selectArrays(`SELECT trains, danger_passes FROM session_graph_data WHERE session_id = $1`, [sessionId])
+    let stored = await read()
+    if (!stored.length) {
+      await storeSessionGraph(sessionId)
+      stored = await read()
+    }
+    if (stored.length) return { trains: stored[0]![0] as [string, TrainMove[]][], alarms: stored[0]![1] as GraphAlarm[] }
+  }
+  const rows = await selectArrays(
+    `SELECT at_ms, block, description, reason, signal FROM session_train_steps WHERE session_id = $1 AND block = ANY($2::text[]) ORDER BY event_id`,
+    [sessionId, routeIds])
+  const { steps, alarms } = splitSteps(rows as StepRow[])
+  return { trains: [...trainMovesOf(steps)], alarms }
+}
+
+/**
+ * The time-distance graph of a route, from the session's train moves, drawn over the whole session or the window
+ * asked for, and thinned to what `width` pixels can show.
+ */
+export async function sessionGraph(sessionId: number, layout: Layout, routeIds: string[], startedAt: number, endedAt: number | null, view: GraphWindow): Promise<GraphData> {
   const byId = new Map(layout.blocks.map(b => [b.id, b]))
   const unknown = routeIds.filter(id => !byId.has(id))
   if (unknown.length) throw badFilter('route', `no block ${unknown.map(u => `"${u}"`).join(', ')} on this layout`)
   if (new Set(routeIds).size !== routeIds.length) throw badFilter('route', 'a block appears twice')
-  const db = useDatabase()
-  // Plain numbers and text from SQL: this can be every description step of a long night.
-  const events = await db.sequelize.query<{ at: string, subject: string, description: string | null, reason: string }>(
-    `SELECT (extract(epoch FROM at) * 1000)::bigint AS at, subject, payload->>'description' AS description, payload->>'reason' AS reason FROM events
-     WHERE session_id = :sessionId AND type = 'description' AND subject IN (:route) ORDER BY id`,
-    { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
-  const alarms = await db.sequelize.query<{ at: string, block: string, signal: string, description: string | null }>(
-    `SELECT payload#>>'{alarm,at}' AS at, payload#>>'{alarm,block}' AS block, payload#>>'{alarm,signal}' AS signal, payload#>>'{alarm,description}' AS description
-     FROM events WHERE session_id = :sessionId AND type = 'alarm' AND coalesce(payload#>>'{alarm,kind}', 'spad') = 'spad' AND payload#>>'{alarm,block}' IN (:route) ORDER BY id`,
-    { replacements: { sessionId, route: routeIds }, type: QueryTypes.SELECT })
-  return buildTimeDistance(
-    routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })),
-    events.map(e => ({ at: Number(e.at), block: e.subject, description: e.description, reason: e.reason })),
-    alarms.map(a => ({ at: Number(a.at), block: a.block, signal: a.signal, description: a.description })),
-    from, to)
+  const endAt = endedAt ?? Date.now()
+  const from = Math.max(startedAt, view.from ?? startedAt)
+  const to = Math.min(endAt, view.to ?? endAt)
+  if (from >= to) throw badFilter('from', 'the span asked for lies outside the session')
+  const { trains, alarms } = await sessionTrainMoves(sessionId, routeIds, endedAt)
+  const whole = timeDistanceOf(routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })), trains, alarms, startedAt, endAt)
+  return fitGraph(whole, from, to, view.width)
 }

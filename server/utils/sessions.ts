@@ -17,6 +17,7 @@ interface SessionRow {
   fast_clock_start: string | null
   notes: string | null
   layout_id: number
+  layout_version: number | null
   slug: string
   layout_name: string
   started_by: string | null
@@ -27,14 +28,15 @@ interface SessionRow {
   operators: string[] | null
 }
 
-const SESSION_FIELDS = `s.id, s.name, s.started_at, s.ended_at, s.fast_clock_ratio, s.fast_clock_start, s.notes, s.layout_id,
+const SESSION_FIELDS = `s.id, s.name, s.started_at, s.ended_at, s.fast_clock_ratio, s.fast_clock_start, s.notes, s.layout_id, s.layout_version,
     l.slug, l.name AS layout_name, su.name AS started_by, eu.name AS ended_by`
 const SESSION_FROM = `FROM operating_sessions s JOIN layouts l ON l.id = s.layout_id
   LEFT JOIN users su ON su.id = s.started_by LEFT JOIN users eu ON eu.id = s.ended_by`
-// The list's figures are counted from the session's own events (partial indexes on session_id and type).
+// The list's figures are counted from the session's own events (partial indexes on session_id and type) and
+// their narrow copy of train steps and signals passed at danger.
 const SESSION_COUNTS = `
-    (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'description' AND e.payload->>'reason' = 'step') AS train_moves,
-    (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'alarm' AND coalesce(e.payload#>>'{alarm,kind}', 'spad') = 'spad') AS spads,
+    (SELECT count(*) FROM session_train_steps t WHERE t.session_id = s.id AND t.reason = 'step') AS train_moves,
+    (SELECT count(*) FROM session_train_steps t WHERE t.session_id = s.id AND t.reason = 'spad') AS spads,
     (SELECT count(*) FROM events e WHERE e.session_id = s.id AND e.type = 'dropout') AS dropouts,
     (SELECT array_agg(DISTINCT u.name ORDER BY u.name) FROM events e JOIN users u ON u.id = e.user_id
       WHERE e.session_id = s.id AND e.type = 'command') AS operators`
@@ -53,19 +55,38 @@ function toListItem(row: SessionRow, now = Date.now()): SessionListItem {
   }
 }
 
-/** Starts a session on a layout; 409 when one is already running there (the database decides between two starts). */
+/** Work a layout's owner does when the request reached another process (registered by the live plugin). */
+export const SESSION_START_WORK = 'session-start'
+export const SESSION_END_WORK = 'session-end'
+
+/**
+ * Starts a session on a layout; 409 when one is already running there (the database decides between two
+ * starts). Several processes: the process that runs the layout does it, wherever the request landed.
+ */
 export async function startOperatingSession(user: SessionUser, body: StartSessionBody): Promise<{ id: number }> {
   const db = useDatabase()
   const layout = await db.models.Layout.findOne({ where: { slug: body.layout } })
   if (!layout) throw createError({ statusCode: 404, message: `layout: there is no layout "${body.layout}"` })
   const live = useLive()
   await live.whenReady()
+  if (live.runsElsewhere(body.layout)) {
+    return atLayoutOwner(body.layout, SESSION_START_WORK, { user, body }, 'The session may or may not have started: look at the list of sessions before you try again.')
+  }
+  return startSessionHere(user, body)
+}
+
+/** Starts a session on a layout this process runs (or the only process). */
+export async function startSessionHere(user: SessionUser, body: StartSessionBody): Promise<{ id: number }> {
+  const db = useDatabase()
+  const layout = await db.models.Layout.findOne({ where: { slug: body.layout } })
+  if (!layout) throw createError({ statusCode: 404, message: `layout: there is no layout "${body.layout}"` })
+  const live = useLive()
   const runtime = live.runtime(body.layout)
   if (!runtime) throw createError({ statusCode: 409, message: `layout: ${layout.name} is not running live (its definition has errors), so a session cannot start on it.` })
   let row
   try {
     row = await db.models.OperatingSession.create({
-      layoutId: layout.id, name: body.name, startedAt: new Date(), startedBy: user.id,
+      layoutId: layout.id, layoutVersion: layout.version, name: body.name, startedAt: new Date(), startedBy: user.id,
       fastClockRatio: body.fastClockRatio, fastClockStart: body.fastClockStart ?? null, notes: body.notes || null,
     })
   } catch (error) {
@@ -84,7 +105,21 @@ export async function startOperatingSession(user: SessionUser, body: StartSessio
   return { id: row.id }
 }
 
+/** Ends a running session. Several processes: the process that runs its layout does it. */
 export async function endOperatingSession(user: SessionUser, id: number): Promise<{ id: number, endedAt: string }> {
+  const db = useDatabase()
+  const live = useLive()
+  await live.whenReady()
+  const [where] = await db.sequelize.query<{ slug: string }>('SELECT l.slug FROM operating_sessions s JOIN layouts l ON l.id = s.layout_id WHERE s.id = :id',
+    { replacements: { id }, type: QueryTypes.SELECT })
+  if (where && live.runsElsewhere(where.slug)) {
+    return atLayoutOwner(where.slug, SESSION_END_WORK, { user, id }, 'The session may or may not have ended: look at the list of sessions before you try again.')
+  }
+  return endSessionHere(user, id)
+}
+
+/** Ends a session whose layout this process runs (or does not run at all). */
+export async function endSessionHere(user: SessionUser, id: number): Promise<{ id: number, endedAt: string }> {
   const db = useDatabase()
   const [rows] = await db.sequelize.query(
     `UPDATE operating_sessions SET ended_at = now(), ended_by = :userId WHERE id = :id AND ended_at IS NULL RETURNING layout_id, ended_at`,
@@ -102,6 +137,8 @@ export async function endOperatingSession(user: SessionUser, id: number): Promis
     // Checkpoints for the whole session now, so the first replay seek does not fold the night.
     void extendCheckpoints(db, id, runtime.layout).catch(error => console.warn(`[blockbell] checkpoints of session ${id}: ${(error as Error).message}`))
   }
+  // the graph's train moves once the journal's last batches of the session are in
+  setTimeout(() => void storeSessionGraph(id).catch(error => console.warn(`[blockbell] graph data of session ${id}: ${(error as Error).message}`)), 20_000).unref()
   try { onSessionEnded(id) } catch (error) { console.warn(`[blockbell] after session ${id} ended: ${(error as Error).message}`) }
   return { id, endedAt: new Date(ended.ended_at).toISOString() }
 }
@@ -122,23 +159,55 @@ export async function listSessions(q: ListSessionsQuery): Promise<{ sessions: Se
   return { sessions: rows.map(r => toListItem(r)), total, page: q.page, pages: Math.max(1, Math.ceil(total / q.limit)) }
 }
 
-export interface LoadedSession { row: SessionRow, layout: Layout }
+export interface LoadedSession {
+  row: SessionRow
+  layout: Layout
+  /** The version drawn: the one the session ran on, or the current one when that was not recorded. */
+  version: number
+  versionRecorded: boolean
+}
 
-/** A session with its layout definition; 404 when there is none. The list's figures only when asked for. */
+// Checked definitions by layout and version: a stored version never changes, and every review request needs one.
+const checkedVersions = new Map<string, Layout>()
+const CHECKED_VERSIONS_KEPT = 32
+
+async function layoutAtVersion(layoutId: number, version: number | null): Promise<{ layout: Layout, version: number }> {
+  const db = useDatabase()
+  let wanted = version
+  if (wanted === null) {
+    const current = await db.models.Layout.findByPk(layoutId, { attributes: ['version'] })
+    wanted = current?.version ?? 1
+  }
+  const key = `${layoutId}:${wanted}`
+  const cached = checkedVersions.get(key)
+  if (cached) return { layout: cached, version: wanted }
+  const stored = await db.models.LayoutVersion.findOne({ where: { layoutId, version: wanted }, attributes: ['definition'] })
+  // A layout made before versions were kept has only its current definition.
+  const definition = stored ? stored.definition : (await db.models.Layout.findByPk(layoutId, { attributes: ['definition'] }))?.definition
+  const checked = validateLayout(definition)
+  if (!checked.ok) throw createError({ statusCode: 409, message: `Version ${wanted} of this session's layout has errors in its definition; it cannot be reviewed.` })
+  if (checkedVersions.size >= CHECKED_VERSIONS_KEPT) checkedVersions.delete(checkedVersions.keys().next().value!)
+  checkedVersions.set(key, checked.layout)
+  return { layout: checked.layout, version: wanted }
+}
+
+/**
+ * A session with the layout definition it ran on (404 when there is none): replay, log, graph and summary all
+ * read the session's own version, whatever the layout became afterwards. The list's figures only when asked for.
+ */
 export async function loadSession(id: number, withCounts = false): Promise<LoadedSession> {
   const db = useDatabase()
   const [row] = await db.sequelize.query<SessionRow>(`${withCounts ? SESSION_SELECT : SESSION_SELECT_LIGHT} WHERE s.id = :id`, { replacements: { id }, type: QueryTypes.SELECT })
   if (!row) throw createError({ statusCode: 404, message: `id: no session with id ${id}` })
-  const layoutRow = await db.models.Layout.findByPk(row.layout_id)
-  const checked = validateLayout(layoutRow?.definition)
-  if (!checked.ok) throw createError({ statusCode: 409, message: 'The layout of this session has errors in its definition; it cannot be reviewed.' })
-  return { row, layout: checked.layout }
+  const { layout, version } = await layoutAtVersion(row.layout_id, row.layout_version)
+  return { row, layout, version, versionRecorded: row.layout_version !== null }
 }
 
 export async function getSessionReview(id: number): Promise<SessionDetail> {
-  const { row, layout } = await loadSession(id, true)
+  const { row, layout, version, versionRecorded } = await loadSession(id, true)
   return {
     ...toListItem(row),
+    layoutVersion: version, layoutVersionRecorded: versionRecorded, definition: layout,
     notes: row.notes, endedBy: row.ended_by, running: row.ended_at === null,
     blocks: layout.blocks.map(b => ({ id: b.id, name: b.name, lengthMm: b.lengthMm })),
     summary: await sessionSummary(row.id, layout, row.started_at.getTime(), row.ended_at?.getTime() ?? Date.now()),

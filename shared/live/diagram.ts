@@ -206,6 +206,22 @@ function segmentDistance(p: Point, a: Point, b: Point): number {
   return Math.hypot(p[0] - (a[0] + t * dx), p[1] - (a[1] + t * dy))
 }
 
+/** The block whose drawn track runs nearest to `p`, within `radius` drawing units, or null. */
+export function nearestBlock(def: Layout, p: Point, radius: number): string | null {
+  let best: string | null = null
+  let bestDistance = radius
+  for (const [id, b] of Object.entries(def.diagram.blocks)) {
+    for (let i = 1; i < b.path.length; i++) {
+      const d = segmentDistance(p, b.path[i - 1]!, b.path[i]!)
+      if (d <= bestDistance) {
+        best = id
+        bestDistance = d
+      }
+    }
+  }
+  return best
+}
+
 // after the side away from the track: beside the lamp, then slantwise, then the other side of the track
 const COMPASS: Point[] = [[-1, 0], [1, 0], [-0.71, -0.71], [0.71, -0.71], [-0.71, 0.71], [0.71, 0.71], [0, -1], [0, 1]]
 

@@ -84,6 +84,8 @@ export const serverTopics = {
   requests: (slug: string) => `${SERVER_TOPIC_ROOT}/layout/${slug}/requests`,
   /** Layout saved, made, archived: every process follows. */
   layouts: `${SERVER_TOPIC_ROOT}/layouts`,
+  /** A person signed out or an account's sessions ended (disabled, password, role): every process acts. */
+  accounts: `${SERVER_TOPIC_ROOT}/accounts`,
   /** Where a process takes its answers. */
   responses: (instance: string) => `${SERVER_TOPIC_ROOT}/instance/${instance}/responses`,
   /** Retained `online` / `offline` (last will) of a process. */
@@ -91,20 +93,20 @@ export const serverTopics = {
 } as const
 
 /** Filters every server process subscribes to. */
-export const SERVER_FILTERS = [`${SERVER_TOPIC_ROOT}/layout/+/panels`, `${SERVER_TOPIC_ROOT}/layout/+/requests`, `${SERVER_TOPIC_ROOT}/layouts`, `${SERVER_TOPIC_ROOT}/instance/+/status`]
+export const SERVER_FILTERS = [`${SERVER_TOPIC_ROOT}/layout/+/panels`, `${SERVER_TOPIC_ROOT}/layout/+/requests`, `${SERVER_TOPIC_ROOT}/layouts`, `${SERVER_TOPIC_ROOT}/accounts`, `${SERVER_TOPIC_ROOT}/instance/+/status`]
 
 /** Input topics of one layout (the owner's own subscription). */
 export const layoutInputFilters = (slug: string) => [relative.detector('+'), relative.turnout('+'), relative.deviceStatus('+')].map(t => layoutTopic(slug, t))
 
 export type ServerTopic
   = | { kind: 'panels' | 'requests', slug: string }
-    | { kind: 'layouts' }
+    | { kind: 'layouts' | 'accounts' }
     | { kind: 'responses' | 'status', instance: string }
 
 export function parseServerTopic(topic: string): ServerTopic | null {
   if (!topic.startsWith(`${SERVER_TOPIC_ROOT}/`)) return null
   const parts = topic.slice(SERVER_TOPIC_ROOT.length + 1).split('/')
-  if (parts[0] === 'layouts' && parts.length === 1) return { kind: 'layouts' }
+  if ((parts[0] === 'layouts' || parts[0] === 'accounts') && parts.length === 1) return { kind: parts[0] }
   if (parts.length !== 3 || !parts[1]) return null
   if (parts[0] === 'layout' && (parts[2] === 'panels' || parts[2] === 'requests')) return { kind: parts[2], slug: parts[1] }
   if (parts[0] === 'instance' && (parts[2] === 'responses' || parts[2] === 'status')) return { kind: parts[2], instance: parts[1] }

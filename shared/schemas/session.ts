@@ -54,7 +54,10 @@ export const GraphQuery = z.object({
   route: z.string({ error: 'route is a comma-separated list of block ids' }).trim().min(1, 'route lists at least one block').max(2000)
     .transform(v => v.split(',').map(s => s.trim()).filter(Boolean))
     .refine(v => v.length > 0 && v.length <= 200, 'route lists 1 to 200 blocks'),
-})
+  from: z.coerce.number({ error: 'from is a time in epoch milliseconds' }).int('from is whole milliseconds').nonnegative().optional(),
+  to: z.coerce.number({ error: 'to is a time in epoch milliseconds' }).int('to is whole milliseconds').nonnegative().optional(),
+  width: z.coerce.number({ error: 'width is the graph\'s width in pixels' }).int('width is whole pixels').min(100, 'width is at least 100 pixels').max(4000, 'width is at most 4000 pixels').default(1200),
+}).refine(q => q.from === undefined || q.to === undefined || q.from < q.to, { message: 'from is before to', path: ['from'] })
 
 export const DeleteSessionBody = z.object({
   confirm: z.string({ error: 'confirm is the name of the session' }).trim().min(1, 'confirm is the name of the session'),

@@ -1,4 +1,5 @@
 import type { Alarm, Indication, OverrideMode, TurnoutPosition } from '../signalling/types'
+import type { Layout } from '../schemas/layout'
 
 /** A journal entry's payload: free-form JSON written by the live side, read here field by field. */
 // eslint-disable-next-line @typescript-eslint/no-explicit-any
@@ -63,6 +64,11 @@ export interface SessionDetail extends SessionListItem {
   notes: string | null
   endedBy: string | null
   running: boolean
+  /** The layout version the session ran on, and its definition (what the replay draws). */
+  layoutVersion: number
+  /** false for a session from before versions were recorded: then the current version stands in. */
+  layoutVersionRecorded: boolean
+  definition: Layout
   /** Blocks in the layout's order with their lengths, for choosing the graph's route. */
   blocks: { id: string, name: string, lengthMm: number }[]
   summary: SessionSummary
@@ -97,6 +103,9 @@ export interface GraphData {
   route: { id: string, name: string, startMm: number, lengthMm: number }[]
   trains: { description: string, points: ([number, number] | null)[] }[]
   dangerPasses: { at: number, mm: number, signal: string, description: string | null }[]
+  /** The span drawn: the whole session, or the part asked for. */
   from: number
   to: number
+  /** Set when the lines were thinned to what the graph's width can show: how many points there were and are. */
+  thinning?: { columns: number, points: number, shown: number } | null
 }

@@ -7,7 +7,8 @@ import type { Layout } from '#shared/schemas/layout'
 import type { Database } from '../../server/database/connection'
 import { createJournal, type Journal } from '../../server/live/journal'
 import { LayoutRuntime } from '../../server/live/runtime'
-import { blockUse, layoutMaintenance, listCleanings, recordCleaning, setCleaningThresholds } from '../../server/utils/maintenance'
+import { insertJournalRecords } from '../../server/live/journal-insert'
+import { blockUse, blockUseFromJournal, layoutMaintenance, listCleanings, recordCleaning, setCleaningThresholds } from '../../server/utils/maintenance'
 import { startThrowawayPostgres, type ThrowawayPostgres } from '../support/postgres'
 import { removeScratchDirs, scratchDir } from '../support/journal-checks'
 
@@ -75,6 +76,8 @@ describe('track cleaning counters', () => {
     // UM3: 20-30 s
     expect(use.get('UM3')).toMatchObject({ passages: 1, occupiedSeconds: 10, dropouts: 0 })
     expect(use.has('DM1')).toBe(false)
+    // the running tallies say exactly what a count of the journal itself says
+    expect(use).toEqual(await blockUseFromJournal(db.sequelize, layoutId, new Date(T0 + 3600_000)))
   })
 
   it('start again from zero for the blocks a cleaning covered, and keep each block\'s history', async () => {
@@ -111,10 +114,47 @@ describe('track cleaning counters', () => {
     const use = await blockUse(db.sequelize, layoutId, new Date(T0 + 600_000))
     expect(use.get('UM4')).toMatchObject({ passages: 0, occupiedSeconds: 20 })
     expect(use.get('DM1')).toMatchObject({ passages: 1, occupiedSeconds: 100 })
+    expect(use).toEqual(await blockUseFromJournal(db.sequelize, layoutId, new Date(T0 + 600_000)))
   })
 
   it('refuses a cleaning of a block the layout does not have, or in the future', async () => {
     await expect(recordCleaning(db.sequelize, layoutId, layout, { blocks: ['ZZ9'], method: 'vacuum' }, userId)).rejects.toMatchObject({ statusCode: 400, message: expect.stringMatching(/^blocks: no block "ZZ9"/) })
     await expect(recordCleaning(db.sequelize, layoutId, layout, { blocks: ['UM1'], method: 'vacuum', at: Date.now() + 86_400_000 }, userId)).rejects.toMatchObject({ statusCode: 400 })
+  })
+
+  it('keep the running tallies equal to the journal through late rows, a cleaning recorded afterwards and a deleted session log', async () => {
+    const other = await db.models.Layout.create({ slug: 'wrenfold-tally', name: 'Wrenfold tally', definition: layout as never })
+    const session = await db.models.OperatingSession.create({ layoutId: other.id, name: 'Thursday running', startedAt: new Date(T0), endedAt: new Date(T0 + 7200_000) } as never)
+    // a pseudo-random evening over four blocks in batches of 50, rows not in time order, some of a session
+    let seed = 7
+    const rand = () => { seed = (seed * 1103515245 + 12345) % 2147483648; return seed / 2147483648 }
+    const occupied = new Map<string, boolean>()
+    const rows = Array.from({ length: 600 }, (_, i) => {
+      const block = ['UM1', 'UM2', 'UM3', 'DM1'][Math.floor(rand() * 4)]!
+      const dropout = rand() < 0.05
+      const next = !occupied.get(block)
+      if (!dropout) occupied.set(block, next)
+      return {
+        layoutId: other.id, sessionId: i % 3 === 0 ? session.id : null, at: T0 + i * 5_000 + Math.floor(rand() * 3_000),
+        type: dropout ? 'dropout' : 'block', subject: block, userId: null, epoch: null, key: `tally-${i}`,
+        payloadJson: JSON.stringify(dropout ? { type: 'dropout' } : { type: 'block', occupied: next }),
+      }
+    })
+    const now = new Date(T0 + 4 * 3600_000)
+    const compare = async () => expect(await blockUse(db.sequelize, other.id, now)).toEqual(await blockUseFromJournal(db.sequelize, other.id, now))
+    for (let i = 0; i < 400; i += 50) await insertJournalRecords(db.sequelize, rows.slice(i, i + 50) as never)
+    await compare()
+    // a cleaning recorded after the fact, at a time in the middle of rows already counted
+    await recordCleaning(db.sequelize, other.id, layout, { blocks: ['UM1', 'UM2'], method: 'vacuum' }, userId, T0 + 1000_000)
+    await compare()
+    // rows arriving late, some from before that cleaning (they must not count for UM1/UM2)
+    await insertJournalRecords(db.sequelize, rows.slice(400).reverse() as never)
+    await insertJournalRecords(db.sequelize, rows.slice(0, 50) as never) // written twice: skipped by the entry key
+    await compare()
+    await db.sequelize.query('DELETE FROM events WHERE session_id = :id', { replacements: { id: session.id } })
+    await compare()
+    const use = await blockUse(db.sequelize, other.id, now)
+    expect(use.get('UM3')!.passages).toBeGreaterThan(0)
+    expect(use.get('UM1')!.lastCleanedAt?.getTime()).toBe(T0 + 1000_000)
   })
 })

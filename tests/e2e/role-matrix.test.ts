@@ -61,6 +61,20 @@ const ROUTES: RouteCase[] = [
   { file: 'layouts/[id]/maintenance.get.ts', method: 'GET', path: '/api/layouts/999999/maintenance', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
   { file: 'layouts/[id]/maintenance/thresholds.put.ts', method: 'PUT', path: '/api/layouts/999999/maintenance/thresholds', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
   { file: 'layouts/[id]/cleanings.get.ts', method: 'GET', path: '/api/layouts/999999/cleanings', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/stock.get.ts', method: 'GET', path: '/api/layouts/999999/stock', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/stock.post.ts', method: 'POST', path: '/api/layouts/999999/stock', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'stock/[id].put.ts', method: 'PUT', path: '/api/stock/999999', body: { name: 'Nowhere', serviceHours: null, serviceKm: null }, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 404 } },
+  { file: 'stock/[id]/description.put.ts', method: 'PUT', path: '/api/stock/999999/description', body: { description: '1A01' }, expect: { anonymous: 401, viewer: 403, signaller: 404, admin: 404 } },
+  { file: 'stock/[id]/services.post.ts', method: 'POST', path: '/api/stock/999999/services', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 404, admin: 404 } },
+  { file: 'stock/[id]/services.get.ts', method: 'GET', path: '/api/stock/999999/services', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/tasks.get.ts', method: 'GET', path: '/api/layouts/999999/tasks', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'layouts/[id]/tasks.post.ts', method: 'POST', path: '/api/layouts/999999/tasks', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 403, admin: 400 } },
+  { file: 'tasks/[id]/done.post.ts', method: 'POST', path: '/api/tasks/999999/done', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 404, admin: 404 } },
+  { file: 'tasks/[id]/log.get.ts', method: 'GET', path: '/api/tasks/999999/log', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'maintenance/due.get.ts', method: 'GET', path: '/api/maintenance/due', expect: { anonymous: 401, viewer: 200, signaller: 200, admin: 200 } },
+  { file: 'uploads/index.post.ts', method: 'POST', path: '/api/uploads', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 400, admin: 400 } },
+  { file: 'uploads/[id].get.ts', method: 'GET', path: '/api/uploads/00000000-0000-4000-8000-000000000000', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
+  { file: 'uploads/[id]/thumbnail.get.ts', method: 'GET', path: '/api/uploads/00000000-0000-4000-8000-000000000000/thumbnail', expect: { anonymous: 401, viewer: 404, signaller: 404, admin: 404 } },
   { file: 'layouts/[id]/cleanings.post.ts', method: 'POST', path: '/api/layouts/999999/cleanings', body: {}, expect: { anonymous: 401, viewer: 403, signaller: 400, admin: 400 } },
 ]
 
@@ -121,7 +135,7 @@ describe('role matrix', () => {
   it.each(STATE_CHANGING.filter(r => r.body !== undefined || r.method === 'POST'))(
     'refuses a form body on $method $path even from this site (415, JSON only)', async ({ method, path }) => {
       const admin = await signedIn('admin')
-      const upload = path === '/api/layouts/import' // a file upload: multipart is its body, refused cross-site only
+      const upload = path === '/api/layouts/import' || path === '/api/uploads' // a file upload: multipart is its body, refused cross-site only
       for (const type of ['application/x-www-form-urlencoded', 'multipart/form-data; boundary=x', 'text/plain']) {
         if (upload && type.startsWith('multipart/')) continue
         const reply = await admin.request(method, path, 'everywhere=true', { 'content-type': type, 'sec-fetch-site': 'same-origin' })

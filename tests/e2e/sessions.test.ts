@@ -224,8 +224,10 @@ describe('a scripted session', () => {
     expect(records.map(r => JSON.parse(r.payload!))).toEqual(stored.map(s => s.payload))
   })
 
+  let firstGraph: unknown
   it('gives the time-distance graph of a route: the train line in route order and the signal passed at danger', async () => {
     const graph = (await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4`)).body
+    firstGraph = graph
     expect(graph.route.map((b: { startMm: number }) => b.startMm)).toEqual([0, 2200, 3700, 5500])
     const line = graph.trains.find((t: { description: string }) => t.description === '1F23')
     const distances = line.points.filter(Boolean).map((p: [number, number]) => p[1])
@@ -261,6 +263,24 @@ describe('a scripted session', () => {
     expect(seen).toEqual(stored.map(s => s.id))
   })
 
+  it('draws the same graph from the train moves stored once the session has settled', async () => {
+    const endedAt = Date.parse((await viewer.get(`/api/sessions/${id}`)).body.session.endedAt)
+    await sleep(Math.max(0, endedAt + 16_000 - Date.now()))
+    expect((await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4`)).body).toEqual(firstGraph)
+    const [stored] = await db.sequelize.query<{ n: string }>(`SELECT count(*) AS n FROM session_graph_data WHERE session_id = :id`, { replacements: { id }, type: QueryTypes.SELECT })
+    expect(Number(stored!.n)).toBe(1)
+    // a span of it, and a span outside it
+    const line = (firstGraph as { trains: { description: string, points: ([number, number] | null)[] }[] }).trains.find(t => t.description === '1F23')!
+    const [second, third] = line.points.filter(Boolean).slice(1, 3) as [[number, number], [number, number]]
+    const span = (await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4&from=${second[0]}&to=${third[0]}`)).body
+    expect(span.trains.find((t: { description: string }) => t.description === '1F23').points.filter(Boolean).map((p: [number, number]) => p[1])).toEqual(expect.arrayContaining([2200, 3700]))
+    expect(span.thinning).toBeNull()
+    const outside = await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2&from=1000&to=2000`)
+    expect(outside.status).toBe(400)
+    expect(outside.body.message).toMatch(/^from:/)
+    expect((await viewer.get(`/api/sessions/${id}/graph?route=UM1&width=20`)).body.message).toMatch(/^width:/)
+  })
+
   it('lets only an admin delete the log, naming what goes; its checkpoints go with it', async () => {
     expect((await signaller.request('DELETE', `/api/sessions/${id}`, { confirm: 'Up main evening' })).status).toBe(403)
     const preview = await admin.get(`/api/sessions/${id}/delete-preview`)
@@ -274,6 +294,52 @@ describe('a scripted session', () => {
       { replacements: { id }, type: QueryTypes.SELECT }) as [{ left: string }]
     expect(Number(left)).toBe(0)
     expect((await viewer.get(`/api/sessions/${id}`)).status).toBe(404)
+  })
+})
+
+describe('a session reviewed after its layout changed', () => {
+  it('replays, draws and names the layout version the session ran on, not the one saved afterwards', async () => {
+    const wrenfold = (await admin.get('/api/layouts')).body.layouts.find((l: { slug: string }) => l.slug === 'wrenfold')
+    const copy = await admin.post('/api/layouts', { name: 'Wrenfold version check', copyOf: wrenfold.id })
+    expect(copy.status).toBe(201)
+    const slug = copy.body.slug as string
+    try {
+      // a new layout's runtime starts at once, but not in the same turn as the reply
+      let started: { status: number, body: { id: number } } | undefined
+      await expect.poll(async () => {
+        started = await signaller.post('/api/sessions', { layout: slug, name: 'Before the siding', fastClockRatio: 1 })
+        return started.status
+      }, { timeout: 5000 }).toBe(201)
+      const session = started!.body.id
+      await device.publishAsync(`blockbell/v1/${slug}/detector/D02`, '1')
+      await settle()
+      const occupiedAt = Date.now()
+      await device.publishAsync(`blockbell/v1/${slug}/detector/D02`, '0')
+      await settle()
+      expect((await signaller.post(`/api/sessions/${session}/end`)).status).toBe(200)
+
+      // afterwards the layout gets a new version: a longer UM2 and a new siding
+      const current = (await admin.get(`/api/layouts/${copy.body.id}`)).body.layout
+      const definition = structuredClone(current.definition)
+      definition.blocks.find((b: { id: string }) => b.id === 'UM2').lengthMm = 2500
+      definition.blocks.push({ id: 'XS1', name: 'Spare siding', lengthMm: 900, detectors: ['D99'] })
+      const saved = await admin.request('PUT', `/api/layouts/${copy.body.id}`, { definition, baseVersion: current.version })
+      expect(saved.body).toMatchObject({ version: current.version + 1, current: true })
+
+      const review = (await viewer.get(`/api/sessions/${session}`)).body.session
+      expect(review).toMatchObject({ layoutVersion: current.version, layoutVersionRecorded: true })
+      expect(review.definition.blocks.map((b: { id: string }) => b.id)).not.toContain('XS1')
+      expect(review.blocks.find((b: { id: string }) => b.id === 'UM2').lengthMm).toBe(1500)
+      const replay = (await viewer.get(`/api/sessions/${session}/replay?at=${occupiedAt}`)).body
+      expect(replay.state.occupied).toMatchObject({ UM2: true })
+      expect(Object.keys(replay.state.occupied).sort()).toEqual(review.definition.blocks.map((b: { id: string }) => b.id).sort())
+      // UM3 starts where the 1,500 mm UM2 of the session's version ends (demo-layout.json lengths)
+      const graph = (await viewer.get(`/api/sessions/${session}/graph?route=UM1,UM2,UM3`)).body
+      expect(graph.route.map((b: { startMm: number }) => b.startMm)).toEqual([0, 2200, 3700])
+      expect((await viewer.get(`/api/sessions/${session}/events?block=XS1`)).status).toBe(400)
+    } finally {
+      await admin.patch(`/api/layouts/${copy.body.id}`, { archived: true })
+    }
   })
 })
 

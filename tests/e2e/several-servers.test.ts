@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import pg from 'pg'
 import mqtt, { type MqttClient } from 'mqtt'
 import { QueryTypes } from 'sequelize'
 import { openDatabase, type Database } from '../../server/database/connection'
@@ -6,11 +7,12 @@ import { databaseSettings } from '../../server/database/config'
 import { createMigrator } from '../../server/database/migrator'
 import { seedDemoData } from '../../server/database/seed'
 import { applyDelta, applySnapshot, emptyView, type DeltaMessage, type SnapshotMessage } from '#shared/live/apply'
-import type { ServerMessage } from '#shared/live/protocol'
+import type { LiveSession, ServerMessage } from '#shared/live/protocol'
 import { DEMO, SessionClient } from '../support/http-client'
 import { LiveClient } from '../support/live-client'
 import { freePort, startMosquitto, startServer, type Running } from '../support/processes'
 import { startTcpRelay, type TcpRelay } from '../support/tcp-relay'
+import { LOCK_KEEPALIVE, lockConnectionConfig, OWNERSHIP_CHECK_TIMEOUT_MS, OWNERSHIP_TICK_MS } from '../../server/live/ownership'
 
 // Several server processes, one layout: two built servers share Debian's mosquitto and one PostgreSQL.
 // Exactly one runs the layout (an advisory lock); the other relays it to its panels and forwards commands.
@@ -19,10 +21,30 @@ const PREFIX = 'blockbell/v1/wrenfold/'
 const NAMES = { signaller: 'Tam Oakridge', signaller2: 'Rhea Lintwhistle', viewer: 'Milo Brackenby' } // server/database/demo-accounts.ts
 const sleep = (ms: number) => new Promise(resolve => setTimeout(resolve, ms))
 
-type Server = Running & { url: string }
+type Server = Running & { url: string, admin?: SessionClient }
 
-async function health(server: Server): Promise<{ instance: string, owns: string[] }> {
-  return (await fetch(`${server.url}/api/health`)).json()
+/** The health answer as an admin sees it (the layouts' slugs); anyone else gets only how many. */
+async function health(server: Server): Promise<{ instance: string, layoutsOwned: number, owns: string[] }> {
+  if (!server.admin) {
+    server.admin = new SessionClient(server.url)
+    const signIn = await server.admin.signIn(DEMO.admin.email, DEMO.admin.password)
+    if (signIn.status !== 200) {
+      server.admin = undefined
+      throw new Error(`admin sign-in on ${server.url}: ${signIn.status}`)
+    }
+  }
+  const reply = await server.admin.get('/api/health')
+  if (!Array.isArray(reply.body?.owns)) throw new Error(`health of ${server.url}: ${reply.status} ${JSON.stringify(reply.body)}`)
+  return reply.body
+}
+
+/** The socket's close code, once the server has closed it. */
+function closed(panel: LiveClient, timeoutMs = 5000): Promise<number> {
+  if (panel.socket.readyState === panel.socket.CLOSED) return Promise.resolve(-1)
+  return new Promise((resolve, reject) => {
+    const timer = setTimeout(() => reject(new Error(`the socket stayed open ${timeoutMs} ms`)), timeoutMs)
+    panel.socket.once('close', (code) => { clearTimeout(timer); resolve(code) })
+  })
 }
 
 async function waitForOwner(servers: Server[], timeoutMs: number): Promise<Server> {
@@ -67,6 +89,8 @@ describe('two server processes behind one broker and one database', () => {
   let relayA: TcpRelay
   let a: Server
   let b: Server
+  let c: Server | undefined
+  let env: Record<string, string>
   let device: MqttClient
   const published: { detector: string, occupied: boolean, at: number }[] = []
   let lastAt = Date.now()
@@ -110,7 +134,7 @@ describe('two server processes behind one broker and one database', () => {
     mqttPort = await freePort()
     broker = await startMosquitto(mqttPort)
     relayA = await startTcpRelay({ host: settings.host, port: settings.port })
-    const env = { BLOCKBELL_DB_NAME: DB, MQTT_URL: `mqtt://127.0.0.1:${mqttPort}`, BLOCKBELL_DETECTOR_DEBOUNCE_MS: '0', MQTT_PORT: '0' }
+    env = { BLOCKBELL_DB_NAME: DB, MQTT_URL: `mqtt://127.0.0.1:${mqttPort}`, BLOCKBELL_DETECTOR_DEBOUNCE_MS: '0', MQTT_PORT: '0' }
     a = await startServer({ ...env, BLOCKBELL_INSTANCE: 'hall-a', BLOCKBELL_DB_PORT: String(relayA.port), BLOCKBELL_DB_HOST: '127.0.0.1' })
     await waitForOwner([a], 10_000)
     b = await startServer({ ...env, BLOCKBELL_INSTANCE: 'hall-b' })
@@ -121,6 +145,7 @@ describe('two server processes behind one broker and one database', () => {
     await device?.endAsync()
     await a?.stop()
     await b?.stop()
+    await c?.stop()
     await relayA?.close()
     await broker?.stop()
     await db?.sequelize.close()
@@ -163,6 +188,82 @@ describe('two server processes behind one broker and one database', () => {
     for (const p of panels) p.close()
   })
 
+  it('/api/health tells anyone which process answered and how many layouts it runs; only an admin sees which', async () => {
+    const open = await (await fetch(`${a.url}/api/health`)).json()
+    expect(open).toEqual({ status: 'ok', database: 'up', journal: { status: 'ok', setAside: 0 }, instance: 'hall-a', layoutsOwned: 1 })
+    const viewer = new SessionClient(b.url)
+    await viewer.signIn(DEMO.viewer.email, DEMO.viewer.password)
+    expect((await viewer.get('/api/health')).body).toEqual({ status: 'ok', database: 'up', journal: { status: 'ok', setAside: 0 }, instance: 'hall-b', layoutsOwned: 0 })
+    expect(await health(a)).toMatchObject({ instance: 'hall-a', layoutsOwned: 1, owns: ['wrenfold'] })
+    expect(await health(b)).toMatchObject({ instance: 'hall-b', layoutsOwned: 0, owns: [] })
+  })
+
+  it('starting and ending a session through the process that does not run the layout: the owner does it, panels on both show it', async () => {
+    const onA = await panelOn(a, 'viewer')
+    const onB = await panelOn(b, 'viewer')
+    const signaller = new SessionClient(b.url)
+    await signaller.signIn(DEMO.signaller.email, DEMO.signaller.password)
+
+    const bad = await signaller.post('/api/sessions', { layout: 'wrenfold', name: '', fastClockRatio: 4 })
+    expect(bad.status).toBe(400)
+    expect(bad.body.message).toMatch(/name/)
+    const sessionChange = (panel: LiveClient, since: number, test: (session: LiveSession | null) => boolean) => panel.next(
+      m => m.type === 'delta' && m.changes.some(c => c.type === 'session' && test(c.session)), 5000, since)
+    let since = [onA.messages.length, onB.messages.length]
+    const started = await signaller.post('/api/sessions', { layout: 'wrenfold', name: 'Thursday running night', fastClockRatio: 4 })
+    expect(started.status).toBe(201)
+    const id = started.body.id as number
+    for (const [i, panel] of [onA, onB].entries()) await sessionChange(panel, since[i]!, s => s?.id === id && s.name === 'Thursday running night')
+    // The owner saved the session's start state, as it does when the request reaches it directly.
+    const [checkpoint] = await db.sequelize.query<{ n: string }>('SELECT count(*) AS n FROM session_checkpoints WHERE session_id = :id', { replacements: { id }, type: QueryTypes.SELECT })
+    expect(Number(checkpoint!.n)).toBeGreaterThan(0)
+    // A second start, through either process, is refused by the owner with its own message.
+    const twice = await signaller.post('/api/sessions', { layout: 'wrenfold', name: 'Again', fastClockRatio: 1 })
+    expect(twice.status).toBe(409)
+    expect(twice.body.message).toMatch(/already running.*Thursday running night/)
+
+    since = [onA.messages.length, onB.messages.length]
+    const ended = await signaller.post(`/api/sessions/${id}/end`)
+    expect(ended.status).toBe(200)
+    for (const [i, panel] of [onA, onB].entries()) await sessionChange(panel, since[i]!, s => s === null)
+    for (const panel of [onA, onB]) expect((await panel.snapshot()).session).toBeNull()
+    expect((await signaller.post(`/api/sessions/${id}/end`)).status).toBe(409)
+    expect((await signaller.post('/api/sessions/999999/end')).status).toBe(404)
+    onA.close()
+    onB.close()
+  })
+
+  it('disabling an account through the process that does not run the layout releases its area and closes its sockets on both', async () => {
+    const holderOnA = await panelOn(a, 'signaller2')
+    const holderOnB = await panelOn(b, 'signaller2')
+    const watcherOnB = await panelOn(b, 'viewer')
+    const taken = await holderOnA.command({ action: 'take-area', area: 'branch' })
+    expect(taken.ok || (await holderOnA.snapshot()).areas.branch?.name === NAMES.signaller2).toBe(true)
+    const admin = new SessionClient(b.url)
+    await admin.signIn(DEMO.admin.email, DEMO.admin.password)
+    const [person] = await db.sequelize.query<{ id: number }>('SELECT id FROM users WHERE email = :email', { replacements: { email: DEMO.signaller2.email }, type: QueryTypes.SELECT })
+    const closedA = closed(holderOnA)
+    const closedB = closed(holderOnB)
+    const released = watcherOnB.change(c => c.type === 'areas' && !c.areas.branch)
+    expect((await admin.patch(`/api/users/${person!.id}`, { disabled: true })).status).toBe(200)
+    expect(await closedA).toBe(4001)
+    expect(await closedB).toBe(4001)
+    await released
+    expect((await watcherOnB.snapshot()).areas.branch ?? null).toBeNull()
+    expect((await admin.patch(`/api/users/${person!.id}`, { disabled: false })).status).toBe(200)
+    watcherOnB.close()
+  })
+
+  it('signing out through one process closes that session\'s panels on the other', async () => {
+    const http = new SessionClient(a.url)
+    await http.signIn(DEMO.viewer.email, DEMO.viewer.password)
+    const panel = await LiveClient.open(http.cookieHeader, b.url)
+    await panel.subscribe('wrenfold')
+    const gone = closed(panel)
+    expect((await http.post('/api/auth/sign-out')).status).toBeLessThan(300)
+    expect(await gone).toBe(4001)
+  })
+
   it('a process whose database connection is cut gives up the layout and stops writing; the other takes over', async () => {
     const onB = await panelOn(b, 'viewer')
     const before = await journalInputs()
@@ -174,7 +275,8 @@ describe('two server processes behind one broker and one database', () => {
     expect(takeoverMs).toBeLessThan(5000)
     // The panel on the survivor starts again from the new owner's state.
     await onB.next(m => m.type === 'snapshot' && m.seq >= 2e9, 5000)
-    expect((await health(a)).owns).toEqual([])
+    // Without its database the cut process cannot check who asks: the public count says it runs nothing.
+    expect(await (await fetch(`${a.url}/api/health`)).json()).toMatchObject({ instance: 'hall-a', layoutsOwned: 0 })
     await run(10)
     await waitForJournal(before.length + 10)
     relayA.restore()
@@ -214,4 +316,42 @@ describe('two server processes behind one broker and one database', () => {
     expect(view.state.occupied).toEqual((await onA.snapshot()).state.occupied)
     onA.close()
   })
+
+  it('a silent network drop of the owner\'s database link: it stops within its check; PostgreSQL frees the lock after its keepalive, then another takes over', async () => {
+    // PostgreSQL takes the keepalive settings the lock connection asks for (no server setting needed).
+    const check = new pg.Client(lockConnectionConfig({ ...databaseSettings(), database: DB }, 'keepalive-check'))
+    await check.connect()
+    const shown = async (name: string) => (await check.query(`SHOW ${name}`)).rows[0][name]
+    expect(await shown('tcp_keepalives_idle')).toBe(String(LOCK_KEEPALIVE.idleS))
+    expect(await shown('tcp_keepalives_interval')).toBe(String(LOCK_KEEPALIVE.intervalS))
+    expect(await shown('tcp_keepalives_count')).toBe(String(LOCK_KEEPALIVE.count))
+    await check.end()
+
+    c = await startServer({ ...env, BLOCKBELL_INSTANCE: 'hall-c' })
+    await health(c)
+    const onA = await panelOn(a, 'viewer')
+    const [{ epoch: before }] = await db.sequelize.query<{ epoch: string }>('SELECT epoch FROM layout_owners WHERE layout_id = :id', { replacements: { id: await layoutId() }, type: QueryTypes.SELECT }) as [{ epoch: string }]
+    const frozenAt = Date.now()
+    relayA.freeze()
+    // The owner's panels hear within its check (2 s, on a 1 s tick) that it no longer runs the layout.
+    await onA.next(m => m.type === 'error' && /no longer runs the layout/.test(m.message), OWNERSHIP_CHECK_TIMEOUT_MS + OWNERSHIP_TICK_MS + 1500)
+    const stoppedMs = Date.now() - frozenAt
+    expect(a.output()).toMatch(/gives up layout \d+: lock connection failed: no answer within 2000 ms/)
+    // The relay's own TCP stack still answers PostgreSQL's keepalive probes, so here PostgreSQL cannot see the
+    // drop: it keeps the lock, and nobody else may take the layout meanwhile.
+    await sleep(1500)
+    expect((await health(c)).owns).toEqual([])
+    // What PostgreSQL does once the probes go unanswered (LOCK_KEEPALIVE): the backend goes, the lock with it.
+    const ended = await db.sequelize.query<{ done: boolean }>(`SELECT pg_terminate_backend(pid) AS done FROM pg_stat_activity
+      WHERE datname = :db AND application_name = 'blockbell-owner-hall-a'`, { replacements: { db: DB }, type: QueryTypes.SELECT })
+    expect(ended.map(r => r.done)).toEqual([true])
+    const freedAt = Date.now()
+    expect(await waitForOwner([c], 5000)).toBe(c)
+    const takeoverMs = Date.now() - freedAt
+    const [{ epoch: after }] = await db.sequelize.query<{ epoch: string }>('SELECT epoch FROM layout_owners WHERE layout_id = :id', { replacements: { id: await layoutId() }, type: QueryTypes.SELECT }) as [{ epoch: string }]
+    expect(Number(after)).toBe(Number(before) + 1)
+    relayA.restore()
+    console.log(`silent drop: the owner stopped after ${stoppedMs} ms; takeover ${takeoverMs} ms after the lock was freed`)
+    onA.close()
+  }, 60_000)
 })

@@ -9,6 +9,11 @@ export interface TcpRelay {
   port: number
   /** Drops every connection now and refuses new ones. */
   cut(): void
+  /**
+   * A silent drop: open connections stay open but nothing passes either way (no reset, no close), as when
+   * a cable is pulled or a switch dies. New ones connect and hang the same way. `restore` lets data through.
+   */
+  freeze(): void
   /** Lets connections through again. */
   restore(): void
   readonly isCut: boolean
@@ -20,7 +25,9 @@ export interface TcpRelay {
 export async function startTcpRelay(target: { host: string, port: number }): Promise<TcpRelay> {
   const sockets = new Set<Socket>()
   let cut = false
+  let frozen = false
   let accepted = 0
+  const pairs = new Set<[Socket, Socket]>()
 
   const server: Server = createServer((client) => {
     if (cut) {
@@ -30,9 +37,17 @@ export async function startTcpRelay(target: { host: string, port: number }): Pro
     accepted++
     const upstream = connect(target.port, target.host)
     sockets.add(client).add(upstream)
-    client.pipe(upstream)
-    upstream.pipe(client)
+    const pair: [Socket, Socket] = [client, upstream]
+    pairs.add(pair)
+    if (frozen) {
+      client.pause()
+      upstream.pause()
+    } else {
+      client.pipe(upstream)
+      upstream.pipe(client)
+    }
     const end = () => {
+      pairs.delete(pair)
       client.destroy()
       upstream.destroy()
       sockets.delete(client)
@@ -52,7 +67,19 @@ export async function startTcpRelay(target: { host: string, port: number }): Pro
       for (const s of sockets) s.destroy()
       sockets.clear()
     },
-    restore() { cut = false },
+    freeze() {
+      frozen = true
+      for (const pair of pairs) for (const s of pair) { s.unpipe(); s.pause() }
+    },
+    restore() {
+      cut = false
+      if (!frozen) return
+      frozen = false
+      for (const [client, upstream] of pairs) {
+        client.pipe(upstream)
+        upstream.pipe(client)
+      }
+    },
     get isCut() { return cut },
     get accepted() { return accepted },
     async close() {

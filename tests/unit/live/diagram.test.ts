@@ -1,6 +1,6 @@
 // Drawing helpers checked against the demo layout's own drawing data (shared/layouts/demo-layout.json).
 import { describe, expect, it } from 'vitest'
-import { blockAreaIndex, contentBounds, diagramMarks, markDistance, markScale, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagDirections, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
+import { blockAreaIndex, contentBounds, diagramMarks, markDistance, markScale, nearestBlock, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagDirections, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
 import { demoLayout } from '../../support/live-fixtures'
 import { benchLayout } from '../../../scripts/lib/bench-layout'
 
@@ -190,5 +190,14 @@ describe('tap areas on the demo drawing', () => {
       }
     }
     expect(overlaps).toEqual([])
+  })
+})
+
+describe('nearestBlock', () => {
+  it('finds the block whose drawn track runs nearest, within the reach', () => {
+    // UM2 runs straight from (360,120) to (640,120); UM1 ends at (360,120) after a bend down the left side
+    expect(nearestBlock(def, [500, 126], 20)).toBe('UM2')
+    expect(nearestBlock(def, [84, 400], 20)).toBe('UM1') // beside UM1's vertical stretch x = 80
+    expect(nearestBlock(def, [500, 160], 20)).toBe(null) // 40 units away: out of reach
   })
 })

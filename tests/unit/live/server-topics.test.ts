@@ -10,7 +10,7 @@ const devices: BrokerIdentity[] = [
   { kind: 'anonymous', username: null, layout: null },
 ]
 const internal = [
-  serverTopics.panels('wrenfold'), serverTopics.requests('wrenfold'), serverTopics.layouts,
+  serverTopics.panels('wrenfold'), serverTopics.requests('wrenfold'), serverTopics.layouts, serverTopics.accounts,
   serverTopics.responses('hall-a'), serverTopics.status('hall-a'),
 ]
 
@@ -27,6 +27,8 @@ describe('topics between server processes', () => {
     expect(parseServerTopic(serverTopics.requests('wrenfold'))).toEqual({ kind: 'requests', slug: 'wrenfold' })
     expect(parseServerTopic(serverTopics.responses('hall-b'))).toEqual({ kind: 'responses', instance: 'hall-b' })
     expect(parseServerTopic(serverTopics.layouts)).toEqual({ kind: 'layouts' })
+    expect(parseServerTopic(serverTopics.accounts)).toEqual({ kind: 'accounts' })
+    expect(parseServerTopic('blockbell-servers/v1/accounts/extra')).toBeNull()
     expect(parseServerTopic('blockbell/v1/wrenfold/detector/D01')).toBeNull()
     expect(parseServerTopic('blockbell-servers/v1/layout/wrenfold/panels/extra')).toBeNull()
     for (const topic of internal) expect(parseInputTopic(topic)).toBeNull()

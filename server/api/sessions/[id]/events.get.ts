@@ -5,6 +5,6 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'viewer')
   const { id } = await parseParams(event, IdParams)
   const query = await parseQuery(event, SessionEventsQuery)
-  const { layout } = await loadSession(id)
-  return sessionEventsPage(id, layout, query)
+  const { row, layout } = await loadSession(id)
+  return sessionEventsPage(id, layout, query, row.ended_at !== null)
 })

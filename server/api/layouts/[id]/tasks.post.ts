@@ -1,0 +1,12 @@
+import { IdParams } from '#shared/schemas/common'
+import { TaskBody } from '#shared/schemas/maintenance'
+
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'admin')
+  const { id } = await parseParams(event, IdParams)
+  const body = await parseBody(event, TaskBody)
+  await getLayout(id)
+  const task = await createMaintenanceTask(useDatabase().sequelize, id, body)
+  setResponseStatus(event, 201)
+  return { id: task }
+})
