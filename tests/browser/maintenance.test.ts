@@ -135,6 +135,7 @@ describe('Maintenance screen', () => {
       const kept = await make(`/api/layouts/${layoutId}/stock`, { name: `Prairie tank ${tag}`, number: '4561', serviceHours: 15, serviceKm: null })
       const gone = await make(`/api/layouts/${layoutId}/stock`, { name: `Parcels van ${tag}`, serviceHours: null, serviceKm: 50 })
       for (const note of ['buffers greased', 'roof repainted']) await page.request.post(`/api/stock/${gone}/services`, { data: { note } })
+      const stale = await make(`/api/layouts/${layoutId}/stock`, { name: `Horsebox ${tag}`, serviceHours: null, serviceKm: null })
       const task = await make(`/api/layouts/${layoutId}/tasks`, { title: `Replace the yard lamp ${tag}`, repeatDays: 60 })
       const doneTask = await make(`/api/layouts/${layoutId}/tasks`, { title: `Clean the fiddle yard ${tag}`, repeatDays: 14 })
       await page.request.post(`/api/tasks/${doneTask}/done`, { data: { note: 'vacuumed' } })
@@ -183,6 +184,12 @@ describe('Maintenance screen', () => {
       expect(await page.getByTestId('stock-roster').getByRole('alert').count()).toBe(0)
       expect((await page.request.get(`/api/stock/${gone}/services`)).status()).toBe(404)
       expect(await row.count()).toBe(1)
+      // removed by someone else while the confirmation was open: the row goes, with no error left behind
+      await page.getByTestId(`stock-remove-${stale}`).tap()
+      expect((await page.request.delete(`/api/stock/${stale}`)).status()).toBe(200)
+      await page.getByTestId(`stock-remove-confirm-${stale}-yes`).tap()
+      await expect.poll(() => page.getByTestId(`stock-${stale}`).count()).toBe(0)
+      expect(await page.getByTestId('stock-roster').getByRole('alert').count()).toBe(0)
 
       // a task: change its interval (its history stays), then remove another with its done log
       const taskRow = page.getByTestId(`task-${task}`)
@@ -214,8 +221,8 @@ describe('Maintenance screen', () => {
       await expect.poll(() => signaller.page.getByTestId(`stock-${kept}`).count()).toBe(1)
       await expect.poll(() => signaller.page.getByTestId(`task-${task}`).count()).toBe(1)
       expect(await signaller.page.locator('[data-test^="stock-change-"], [data-test^="stock-remove-"], [data-test^="task-change-"], [data-test^="task-remove-"]').count()).toBe(0)
-      // the one 400 is the save with no name, shown beside the field
-      expect(unexpectedConsoleErrors(admin, [400])).toEqual([])
+      // the 400 is the save with no name (shown beside the field), the 404 the item removed meanwhile
+      expect(unexpectedConsoleErrors(admin, [400, 404])).toEqual([])
       expect(unexpectedConsoleErrors(signaller)).toEqual([])
     } finally {
       await admin.close()
