@@ -24,6 +24,19 @@ export const useStockStore = defineStore('stock', () => {
     await load(id)
   }
 
+  async function updateItem(itemId: number, input: StockInput) {
+    await $fetch<{ id: number }>(`/api/stock/${itemId}`, { method: 'PUT', body: input })
+    await load(layoutId.value!)
+  }
+
+  /** Removes the item with its service records; the list is read again (so it is gone for everyone). */
+  async function removeItem(itemId: number) {
+    const url: string = `/api/stock/${itemId}`
+    const send = $fetch as (url: string, options: { method: 'DELETE' }) => Promise<{ deleted: number, services: number }>
+    await send(url, { method: 'DELETE' })
+    await load(layoutId.value!)
+  }
+
   async function setDescription(itemId: number, description: string | null) {
     const body = { description }
     await $fetch<{ id: number }>(`/api/stock/${itemId}/description`, { method: 'PUT', body })
@@ -38,5 +51,5 @@ export const useStockStore = defineStore('stock', () => {
 
   const dueCount = computed(() => items.value.filter(i => i.state === 'due').length)
 
-  return { layoutId, items, loadError, dueCount, load, addItem, setDescription, recordService }
+  return { layoutId, items, loadError, dueCount, load, addItem, updateItem, removeItem, setDescription, recordService }
 })

@@ -23,11 +23,24 @@ export const useTasksStore = defineStore('tasks', () => {
     await load(id)
   }
 
+  async function updateTask(taskId: number, input: TaskInput) {
+    await $fetch<{ id: number }>(`/api/tasks/${taskId}`, { method: 'PUT', body: input })
+    await load(layoutId.value!)
+  }
+
+  /** Removes the task with its done log. */
+  async function removeTask(taskId: number) {
+    const url: string = `/api/tasks/${taskId}`
+    const send = $fetch as (url: string, options: { method: 'DELETE' }) => Promise<{ deleted: number, doneEntries: number }>
+    await send(url, { method: 'DELETE' })
+    await load(layoutId.value!)
+  }
+
   async function markDone(taskId: number, note?: string) {
     const body = { note }
     await $fetch<{ id: number }>(`/api/tasks/${taskId}/done`, { method: 'POST', body })
     await load(layoutId.value!)
   }
 
-  return { layoutId, tasks, loadError, load, addTask, markDone }
+  return { layoutId, tasks, loadError, load, addTask, updateTask, removeTask, markDone }
 })

@@ -14,6 +14,7 @@ interface TaskRow {
   repeat_days: number | null
   created_at: Date
   last_done_at: Date | null
+  done_count: number
 }
 
 const taskMissing = (id: number) => createError({ statusCode: 404, message: `id: no task with id ${id}` })
@@ -22,7 +23,8 @@ const taskMissing = (id: number) => createError({ statusCode: 404, message: `id:
 export async function listMaintenanceTasks(sequelize: Sequelize, layoutId: number | null, now = Date.now()): Promise<(MaintenanceTask & { layoutId: number })[]> {
   const rows = await sequelize.query<TaskRow & { layout_id: number }>(`
     SELECT t.id, t.layout_id, t.title, t.notes, t.assignee_id, u.name AS assignee_name, to_char(t.due_on, 'YYYY-MM-DD') AS due_on,
-      t.repeat_days, t.created_at, (SELECT max(l.done_at) FROM maintenance_task_log l WHERE l.task_id = t.id) AS last_done_at
+      t.repeat_days, t.created_at, (SELECT max(l.done_at) FROM maintenance_task_log l WHERE l.task_id = t.id) AS last_done_at,
+      (SELECT count(*)::int FROM maintenance_task_log l WHERE l.task_id = t.id) AS done_count
     FROM maintenance_tasks t LEFT JOIN users u ON u.id = t.assignee_id
     WHERE (CAST(:layoutId AS integer) IS NULL OR t.layout_id = :layoutId)
   `, { replacements: { layoutId }, type: QueryTypes.SELECT })
@@ -32,21 +34,53 @@ export async function listMaintenanceTasks(sequelize: Sequelize, layoutId: numbe
     return {
       id: r.id, layoutId: r.layout_id, title: r.title, notes: r.notes,
       assignee: r.assignee_id !== null ? { id: r.assignee_id, name: r.assignee_name ?? '' } : null,
-      dueOn: r.due_on, repeatDays: r.repeat_days, lastDoneAt: r.last_done_at?.toISOString() ?? null, nextDue, state,
+      dueOn: r.due_on, repeatDays: r.repeat_days, lastDoneAt: r.last_done_at?.toISOString() ?? null, doneCount: r.done_count, nextDue, state,
     }
   }).sort((a, b) => order[a.state] - order[b.state] || (a.nextDue ?? '').localeCompare(b.nextDue ?? '') || a.id - b.id)
 }
 
+/** An assignee must be an active account; `keep` (the task's present assignee) may stay even once disabled. */
+async function checkAssignee(sequelize: Sequelize, assigneeId: number | null | undefined, keep: number | null = null) {
+  if (!assigneeId || assigneeId === keep) return
+  const [user] = await sequelize.query<{ id: number }>('SELECT id FROM users WHERE id = :id AND disabled_at IS NULL', { replacements: { id: assigneeId }, type: QueryTypes.SELECT })
+  if (!user) throw createError({ statusCode: 400, message: `assigneeId: no active account with id ${assigneeId}` })
+}
+
+const taskValues = (input: TaskInput) => ({
+  title: input.title, notes: input.notes || null, assignee: input.assigneeId ?? null, dueOn: input.dueOn ?? null, repeatDays: input.repeatDays ?? null,
+})
+
 export async function createMaintenanceTask(sequelize: Sequelize, layoutId: number, input: TaskInput): Promise<number> {
-  if (input.assigneeId) {
-    const [user] = await sequelize.query<{ id: number }>('SELECT id FROM users WHERE id = :id AND disabled_at IS NULL', { replacements: { id: input.assigneeId }, type: QueryTypes.SELECT })
-    if (!user) throw createError({ statusCode: 400, message: `assigneeId: no active account with id ${input.assigneeId}` })
-  }
+  await checkAssignee(sequelize, input.assigneeId)
   const [row] = await sequelize.query<{ id: number }>(`
     INSERT INTO maintenance_tasks (layout_id, title, notes, assignee_id, due_on, repeat_days)
     VALUES (:layoutId, :title, :notes, :assignee, :dueOn, :repeatDays) RETURNING id
-  `, { replacements: { layoutId, title: input.title, notes: input.notes || null, assignee: input.assigneeId ?? null, dueOn: input.dueOn ?? null, repeatDays: input.repeatDays ?? null }, type: QueryTypes.SELECT })
+  `, { replacements: { layoutId, ...taskValues(input) }, type: QueryTypes.SELECT })
   return row!.id
+}
+
+/**
+ * Changes what a task is, when and for whom. Its done log stays: the next due day is worked out again from
+ * the last time it was done (a one-off task already done stays done).
+ */
+export async function updateMaintenanceTask(sequelize: Sequelize, id: number, input: TaskInput): Promise<void> {
+  const [task] = await sequelize.query<{ assignee_id: number | null }>('SELECT assignee_id FROM maintenance_tasks WHERE id = :id', { replacements: { id }, type: QueryTypes.SELECT })
+  if (!task) throw taskMissing(id)
+  await checkAssignee(sequelize, input.assigneeId, task.assignee_id)
+  const [, count] = await sequelize.query(`
+    UPDATE maintenance_tasks SET title = :title, notes = :notes, assignee_id = :assignee, due_on = :dueOn, repeat_days = :repeatDays WHERE id = :id
+  `, { replacements: { id, ...taskValues(input) }, type: QueryTypes.UPDATE })
+  if (!count) throw taskMissing(id)
+}
+
+/** Removes a task for good with its done log (cascade); answers how many log entries went with it. */
+export async function deleteMaintenanceTask(sequelize: Sequelize, id: number): Promise<{ doneEntries: number }> {
+  const [row] = await sequelize.query<{ done_entries: number }>(`
+    WITH gone AS (DELETE FROM maintenance_tasks WHERE id = :id RETURNING id)
+    SELECT (SELECT count(*)::int FROM maintenance_task_log l WHERE l.task_id IN (SELECT id FROM gone)) AS done_entries FROM gone
+  `, { replacements: { id }, type: QueryTypes.SELECT })
+  if (!row) throw taskMissing(id)
+  return { doneEntries: row.done_entries }
 }
 
 export async function recordTaskDone(sequelize: Sequelize, id: number, note: string | undefined, userId: number, now = new Date()): Promise<number> {

@@ -17,6 +17,7 @@ interface ItemRow {
   service_km: string | null
   description: string | null
   last_serviced_at: Date | null
+  services: number
 }
 
 const NOT_FOUND = (id: number) => createError({ statusCode: 404, message: `id: no stock item with id ${id}` })
@@ -59,7 +60,8 @@ export async function listStock(sequelize: Sequelize, layoutId: number, definiti
   const rows = await sequelize.query<ItemRow>(`
     SELECT s.id, s.name, s.number, s.notes, s.photo::text AS photo, s.service_hours, s.service_km,
       (SELECT r.description FROM stock_runs r WHERE r.stock_id = s.id AND r.to_at IS NULL) AS description,
-      (SELECT max(v.done_at) FROM stock_services v WHERE v.stock_id = s.id) AS last_serviced_at
+      (SELECT max(v.done_at) FROM stock_services v WHERE v.stock_id = s.id) AS last_serviced_at,
+      (SELECT count(*)::int FROM stock_services v WHERE v.stock_id = s.id) AS services
     FROM stock_items s WHERE s.layout_id = :layoutId ORDER BY s.name, s.id
   `, { replacements: { layoutId }, type: QueryTypes.SELECT })
   const items: StockItem[] = []
@@ -70,7 +72,7 @@ export async function listStock(sequelize: Sequelize, layoutId: number, definiti
     items.push({
       id: row.id, name: row.name, number: row.number, notes: row.notes, photo: row.photo ? uploadedPhoto(row.photo) : null,
       serviceHours: interval.hours, serviceKm: interval.km, description: row.description,
-      lastServicedAt: row.last_serviced_at?.toISOString() ?? null, ...running, state: verdict.state, reasons: verdict.reasons,
+      lastServicedAt: row.last_serviced_at?.toISOString() ?? null, serviceCount: row.services, ...running, state: verdict.state, reasons: verdict.reasons,
     })
   }
   return items
@@ -95,6 +97,20 @@ export async function updateStockItem(sequelize: Sequelize, id: number, input: S
     UPDATE stock_items SET name = :name, number = :number, notes = :notes, photo = :photo, service_hours = :hours, service_km = :km WHERE id = :id
   `, { replacements: { id, name: input.name, number: input.number || null, notes: input.notes || null, photo: input.photo ?? null, hours: input.serviceHours, km: input.serviceKm }, type: QueryTypes.UPDATE })
   if (!count) throw NOT_FOUND(id)
+}
+
+/**
+ * Removes an item from the roster for good, with its service records and the train descriptions it ran under
+ * (both cascade). The journal keeps its own description entries: they never named the item. Its photo stays
+ * in the uploads, as a cleaning's do.
+ */
+export async function deleteStockItem(sequelize: Sequelize, id: number): Promise<{ services: number }> {
+  const [row] = await sequelize.query<{ services: number }>(`
+    WITH gone AS (DELETE FROM stock_items WHERE id = :id RETURNING id)
+    SELECT (SELECT count(*)::int FROM stock_services v WHERE v.stock_id IN (SELECT id FROM gone)) AS services FROM gone
+  `, { replacements: { id }, type: QueryTypes.SELECT })
+  if (!row) throw NOT_FOUND(id)
+  return { services: row.services }
 }
 
 /** The layout a stock item belongs to; 404 when there is no such item. */

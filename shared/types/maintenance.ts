@@ -29,6 +29,8 @@ export interface StockItem {
   /** The train description it runs under now, if any. */
   description: string | null
   lastServicedAt: string | null
+  /** How many services are recorded for it (they go with it when it is removed). */
+  serviceCount: number
   /** Since the last service (or ever): passages of blocks, running seconds, scale metres. */
   passages: number
   seconds: number
@@ -48,6 +50,8 @@ export interface MaintenanceTask {
   dueOn: string | null
   repeatDays: number | null
   lastDoneAt: string | null
+  /** How many times it is recorded as done (the done log goes with it when it is removed). */
+  doneCount: number
   nextDue: string | null
   state: TaskState
 }

@@ -8,7 +8,7 @@ const SCREENS = [
   { path: '/panel', link: 'Panel', shows: '[data-test="diagram"]' },
   { path: '/layouts', link: 'Layouts', shows: '[data-test="devices"]' },
   { path: '/sessions', link: 'Sessions', shows: '[data-test="session-filters"]' },
-  { path: '/maintenance', link: 'Maintenance', shows: '[data-test="not-built"]' },
+  { path: '/maintenance', link: 'Maintenance', shows: '[data-test="stock-roster"]' },
   { path: '/people', link: 'People', shows: `[data-test="person-${DEMO.admin.email}"]` },
   { path: '/account', link: null, shows: '[data-test="sign-out-everywhere"]' },
 ]

@@ -58,4 +58,64 @@ describe('stock roster API', () => {
     expect(long.status).toBe(400)
     expect(long.body.message).toMatch(/^description: at most 16 characters/)
   })
+
+  const inRoster = async (id: number) => (await viewer.get(`/api/layouts/${layoutId}/stock`)).body.items.find((i: { id: number }) => i.id === id)
+
+  it('lets an admin change an item; its services and description stay; others are refused', async () => {
+    const id = (await admin.post(`/api/layouts/${layoutId}/stock`, { name: 'Saddle tank', number: '1501', notes: 'weathered', serviceHours: 10, serviceKm: null })).body.id
+    expect((await signaller.request('PUT', `/api/stock/${id}/description`, { description: '3F07' })).status).toBe(200)
+    expect((await signaller.post(`/api/stock/${id}/services`, { note: 'motor oiled' })).status).toBe(201)
+    const change = { name: 'Saddle tank (rebuilt)', number: '1502', serviceHours: null, serviceKm: 40 }
+    for (const who of [viewer, signaller]) expect((await who.request('PUT', `/api/stock/${id}`, change)).status).toBe(403)
+    expect(await inRoster(id)).toMatchObject({ name: 'Saddle tank', number: '1501' })
+    const reply = await admin.request('PUT', `/api/stock/${id}`, change)
+    expect(reply.status, JSON.stringify(reply.body)).toBe(200)
+    // the form sends the whole item: notes left out are cleared, the rest is what was sent
+    expect(await inRoster(id)).toMatchObject({ ...change, notes: null, photo: null, description: '3F07', serviceCount: 1, lastServicedAt: expect.any(String) })
+  })
+
+  it('changing an item names the field at fault, 404 for an unknown id, never a 500', async () => {
+    const id = (await admin.post(`/api/layouts/${layoutId}/stock`, { name: 'Railbus', serviceHours: null, serviceKm: null })).body.id
+    const cases: [unknown, RegExp][] = [
+      [{ name: '', serviceHours: null, serviceKm: null }, /^name: give the item a name/],
+      [{ name: 'x'.repeat(81), serviceHours: null, serviceKm: null }, /^name: at most 80 characters/],
+      [{ name: 'Railbus', number: 'n'.repeat(33), serviceHours: null, serviceKm: null }, /^number: at most 32 characters/],
+      [{ name: 'Railbus', serviceHours: 0, serviceKm: null }, /^serviceHours: more than 0/],
+      [{ name: 'Railbus', serviceHours: null }, /^serviceKm: /],
+      [{ name: 'Railbus', serviceHours: null, serviceKm: null, photo: '00000000-0000-4000-8000-000000000000' }, /^photo: no uploaded photo/],
+    ]
+    for (const [body, message] of cases) {
+      const reply = await admin.request('PUT', `/api/stock/${id}`, body)
+      expect(reply.status, JSON.stringify(body)).toBe(400)
+      expect(reply.body.message).toMatch(message)
+    }
+    expect(await inRoster(id)).toMatchObject({ name: 'Railbus' })
+    const unknown = await admin.request('PUT', '/api/stock/999999', { name: 'Railbus', serviceHours: null, serviceKm: null })
+    expect(unknown.status).toBe(404)
+    expect(unknown.body.message).toMatch(/^id: no stock item with id 999999/)
+    for (const bad of ['abc', '0', '2147483648']) {
+      const reply = await admin.request('PUT', `/api/stock/${bad}`, { name: 'Railbus', serviceHours: null, serviceKm: null })
+      expect(reply.status, bad).toBe(400)
+      expect(reply.body.message, bad).toMatch(/^id: /)
+    }
+  })
+
+  it('lets an admin remove an item with its service records, once; others are refused', async () => {
+    const id = (await admin.post(`/api/layouts/${layoutId}/stock`, { name: 'Brake van', serviceHours: null, serviceKm: 25 })).body.id
+    expect((await signaller.post(`/api/stock/${id}/services`, { note: 'couplings checked' })).status).toBe(201)
+    expect((await signaller.post(`/api/stock/${id}/services`, { note: 'lamp bracket refitted' })).status).toBe(201)
+    expect((await signaller.request('PUT', `/api/stock/${id}/description`, { description: '9T50' })).status).toBe(200)
+    expect(await inRoster(id)).toMatchObject({ serviceCount: 2 })
+    for (const who of [viewer, signaller]) expect((await who.request('DELETE', `/api/stock/${id}`)).status).toBe(403)
+    expect(await inRoster(id)).toBeDefined()
+    const removed = await admin.request('DELETE', `/api/stock/${id}`)
+    expect(removed.status, JSON.stringify(removed.body)).toBe(200)
+    expect(removed.body).toEqual({ deleted: id, services: 2 })
+    expect(await inRoster(id)).toBeUndefined()
+    expect((await viewer.get(`/api/stock/${id}/services`)).status).toBe(404)
+    const again = await admin.request('DELETE', `/api/stock/${id}`)
+    expect(again.status).toBe(404)
+    expect(again.body.message).toMatch(/^id: no stock item with id/)
+    expect((await admin.request('DELETE', '/api/stock/x')).status).toBe(400)
+  })
 })
