@@ -23,7 +23,7 @@ export default defineConfig({
           fileParallelism: false,
         },
       },
-      await defineVitestProject({ test: { name: 'nuxt', include: ['tests/nuxt/**/*.test.ts'], environment: 'nuxt' } }),
+      await defineVitestProject({ test: { name: 'nuxt', include: ['tests/nuxt/**/*.test.ts'], environment: 'nuxt', testTimeout: 20_000 } }),
     ],
   },
 })
