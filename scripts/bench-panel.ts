@@ -13,7 +13,11 @@
 // (default "1,4").
 // Options (environment): BENCH_PANEL_CHANGES (default 100) state changes to time; BENCH_PANEL_GAP_MS (default
 // 150) pause between them; BENCH_PANEL_CSS extra CSS put in the 500-block page (to try what a change to the
-// drawing would save, e.g. ".bb-area-band{display:none}"); BENCH_PANEL_SCREENSHOT a file to save that page in. BLOCKBELL_BENCH_URL: measure the JavaScript size against that server instead
+// drawing would save, e.g. ".bb-area-band{display:none}"); BENCH_PANEL_SCREENSHOT a file to save that page in;
+// BENCH_PANEL_TRACE a file prefix: records a chromium trace of the timed changes (<prefix>-<rate>x.json) and prints
+// the renderer main thread's time per change by trace event. A change counts as drawn in the first frame after its
+// message when that frame carries it and is done within one frame interval (16.7 ms) of its start.
+// BLOCKBELL_BENCH_URL: measure the JavaScript size against that server instead
 // (signing in with the demo admin); the 500-block part then runs only with BLOCKBELL_BENCH_MQTT_URL set and a
 // layout `bench500` from `--print-layout` already loaded there.
 import { existsSync, readFileSync } from 'node:fs'
