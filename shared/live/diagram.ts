@@ -178,6 +178,45 @@ export function trimPath(path: Point[], gap: number): Point[] {
   return cut(cut(path, g).reverse(), g).reverse()
 }
 
+/**
+ * The bars drawn across both ends of a block's (trimmed) track, as one SVG path: each bar is `length` long,
+ * centred on the end point and square to the track's first or last segment.
+ */
+export function endBarsPath(path: Point[], length = 18): string {
+  if (path.length < 2) return ''
+  const bar = (end: Point, next: Point) => {
+    const len = Math.hypot(next[0] - end[0], next[1] - end[1])
+    if (len === 0) return ''
+    const [nx, ny] = [-(next[1] - end[1]) / len * length / 2, (next[0] - end[0]) / len * length / 2]
+    const r = (n: number) => Math.round(n * 100) / 100
+    return `M${r(end[0] + nx)} ${r(end[1] + ny)}L${r(end[0] - nx)} ${r(end[1] - ny)}`
+  }
+  return bar(path[0]!, path[1]!) + bar(path.at(-1)!, path.at(-2)!)
+}
+
+/** The middle vertex of a path (between the two middle ones for an even count): where a block is filed in tiles. */
+function pathMiddle(path: Point[]): Point {
+  const [a, b] = [path[Math.floor((path.length - 1) / 2)]!, path[Math.ceil((path.length - 1) / 2)]!]
+  return [(a[0] + b[0]) / 2, (a[1] + b[1]) / 2]
+}
+
+/**
+ * The diagram is drawn in layers: a layer is one SVG of its own, so a change repaints only the layer it is in.
+ * Every kind of mark (tracks, berths, turnouts, signals) is cut into tiles, squares of a grid over the drawing's
+ * content of about `perTile` blocks each; `tileOf` tells the tile of a point. Tiles are numbered row by row.
+ */
+export function diagramTiles(def: Layout, perTile = 16): { count: number, tileOf: (p: Point) => number, blockTile: (id: string) => number } {
+  const b = contentBounds(def, 0)
+  const side = Math.max(1, Math.round(Math.sqrt(Object.keys(def.diagram.blocks).length / perTile)))
+  const cell = (v: number, from: number, size: number) => Math.min(side - 1, Math.max(0, Math.floor(((v - from) / Math.max(1, size)) * side)))
+  const tileOf = (p: Point) => cell(p[1], b.y, b.height) * side + cell(p[0], b.x, b.width)
+  const blockTile = (id: string) => {
+    const path = def.diagram.blocks[id]?.path
+    return path?.length ? tileOf(pathMiddle(path)) : 0
+  }
+  return { count: side * side, tileOf, blockTile }
+}
+
 /** Width in mark units of a berth holding `description` (an empty berth is a small box). */
 export function berthWidth(description: string | null): number {
   // descriptions are set in a monospace face, about 0.62 em a character

@@ -82,7 +82,7 @@ describe('PanelDiagram', () => {
     expect(w.find('[data-test="block-BR"] [data-test="occupied"]').exists()).toBe(false)
     // the track line keeps a bar across each end, so block ends show whether free or occupied
     expect(w.find('[data-test="block-BR"] .bb-track').exists()).toBe(true)
-    expect(w.find('marker#bb-end').exists()).toBe(true)
+    expect(w.find('[data-test="block-BR"] [data-test="block-ends"]').attributes('d')).toMatch(/^M[^M]+M[^M]+$/)
     expect(w.find('[data-test="block-BR"] [data-test="dropout"]').exists()).toBe(true)
     expect(w.find('[data-test="block-CP"] [data-test="dropout"]').exists()).toBe(false)
   })

@@ -1,6 +1,6 @@
 // Drawing helpers checked against the demo layout's own drawing data (shared/layouts/demo-layout.json).
 import { describe, expect, it } from 'vitest'
-import { blockAreaIndex, contentBounds, diagramMarks, markDistance, markScale, nearestBlock, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagDirections, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
+import { blockAreaIndex, contentBounds, diagramMarks, diagramTiles, endBarsPath, markDistance, markScale, nearestBlock, nearestMark, signalLabelDirections, turnoutLegs, turnoutTagDirections, turnoutTagSide, MARK, type Mark } from '#shared/live/diagram'
 import { demoLayout } from '../../support/live-fixtures'
 import { benchLayout } from '../../../scripts/lib/bench-layout'
 
@@ -199,5 +199,40 @@ describe('nearestBlock', () => {
     expect(nearestBlock(def, [500, 126], 20)).toBe('UM2')
     expect(nearestBlock(def, [84, 400], 20)).toBe('UM1') // beside UM1's vertical stretch x = 80
     expect(nearestBlock(def, [500, 160], 20)).toBe(null) // 40 units away: out of reach
+  })
+})
+
+describe('endBarsPath', () => {
+  it('draws a bar square to the track across each end, centred on the end point', () => {
+    // worked by hand: a level track from (100,50) to (200,50) has upright bars of 18 units at x = 100 and 200
+    expect(endBarsPath([[100, 50], [200, 50]])).toBe('M100 59L100 41M200 41L200 59')
+    // an upright track from (10,0) down to (10,40) bent to (30,40): the bars lie level at (10,0) and upright at (30,40)
+    expect(endBarsPath([[10, 0], [10, 40], [30, 40]], 10)).toBe('M5 0L15 0M30 35L30 45')
+    // on a 3-4-5 diagonal from (0,0) to (30,40) the bar's direction is (-4,3)/5, half of 10 units each way
+    expect(endBarsPath([[0, 0], [30, 40]], 10)).toBe('M-4 3L4 -3M34 37L26 43')
+    expect(endBarsPath([[1, 1]])).toBe('')
+  })
+})
+
+describe('diagramTiles', () => {
+  it('cuts the 500-block bench drawing into a 6 x 6 grid and files each block by the middle of its track', () => {
+    const bench = benchLayout()
+    const grid = diagramTiles(bench)
+    // sqrt(500 / 16) = 5.6, rounded to 6 tiles a side
+    expect(grid.count).toBe(36)
+    const used = new Set(Object.keys(bench.diagram.blocks).map(grid.blockTile))
+    expect(used.size).toBe(36)
+    // B000 is the first block of the top row, on the left: tile 0; B499 the last of the bottom row, also on the left
+    expect(grid.blockTile('B000')).toBe(0)
+    expect(grid.blockTile('B499')).toBe(30)
+    const b = contentBounds(bench, 0)
+    expect(grid.tileOf([b.x + b.width, b.y + b.height])).toBe(35)
+    expect(grid.tileOf([b.x - 500, b.y - 500])).toBe(0)
+  })
+
+  it('keeps a small layout like the demo in one tile per kind of mark', () => {
+    // the demo has fewer than 24 blocks (sqrt(n / 16) rounds to 1)
+    expect(Object.keys(def.diagram.blocks).length).toBeLessThan(24)
+    expect(diagramTiles(def).count).toBe(1)
   })
 })
