@@ -461,3 +461,15 @@ export function shareUnchanged<T>(prev: T | undefined, next: T): T {
   }
   return (same ? prev : out) as T
 }
+
+/** The arrow drawn where a link joins two drawn blocks, pointing the way trains run (null when either is not drawn). */
+export function linkArrow(def: Layout, link: { from: string, to: string }): { key: string, x: number, y: number, angle: number } | null {
+  const a = def.diagram.blocks[link.from]?.path
+  const b = def.diagram.blocks[link.to]?.path
+  if (!a?.length || !b?.length) return null
+  const end = a[a.length - 1]!
+  const start = b[0]!
+  const next = b[1] ?? start
+  const angle = Math.atan2(next[1] - start[1], next[0] - start[0]) * 180 / Math.PI
+  return { key: `${link.from}>${link.to}`, x: (end[0] + start[0]) / 2, y: (end[1] + start[1]) / 2, angle }
+}
