@@ -5,12 +5,15 @@ import { validateLayout } from '#shared/signalling'
 import { DEMO, signedIn, unique } from '../support/http-client'
 import { openBrowser, screenshot, signInThroughForm, type BrowserSession } from '../support/browser'
 import { lineLayout } from '../support/layout-fixtures'
+import { themes } from '../../tailwind.config'
+import { hexChannels } from '#shared/theme/contrast'
 
 // The layout editor on a touch screen at 1024x768, driven by taps only: build a layout from nothing, see a
 // problem and fix it, try the signalling, save it, watch it on the Panel, export it and import the export.
 const MQTT_URL = process.env.BLOCKBELL_TEST_MQTT_URL ?? 'mqtt://127.0.0.1:18839'
 const DEVICE = { username: 'fake-layout', password: process.env.BLOCKBELL_FAKE_MQTT_PASSWORD ?? 'fake-layout-demo' }
 const POLL = { interval: 50, timeout: 5000 }
+const rgb = (hex: string) => `rgb(${hexChannels(hex).join(', ')})`
 
 /** Taps the drawing at a point given in drawing units (through the zoom the canvas shows now). */
 async function tapAt(page: Page, x: number, y: number) {
@@ -320,6 +323,11 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
       await expect.poll(() => page.evaluate(() => document.documentElement.classList.contains('light')), POLL).toBe(theme === 'light')
       // the buttons' colours fade into the new theme (transition-colors): let them finish first
       await page.evaluate(() => Promise.all(document.getAnimations().map(x => x.finished)))
+      // the band is drawn in the colours the contrast test checks (tests/unit/theme/contrast.test.ts): edges in
+      // the area's colour, the inside in its faint tint
+      const stroke = (test: string) => page.getByTestId(test).evaluate(el => getComputedStyle(el).stroke)
+      expect(await stroke('area-band-hollin')).toBe(rgb(themes[theme]['area-2']))
+      expect(await stroke('area-wash-hollin')).toBe(rgb(themes[theme]['area-2-wash']))
       await screenshot(page, `editor-area-colour-${theme}-1024x768`, false)
     }
     await page.getByTestId('theme').tap() // back to dark
