@@ -338,7 +338,14 @@ export function dragMoves(def: Layout, item: ItemRef, point: number | null): Dra
  */
 export function dragStep(start: Layout, item: ItemRef, point: number | null, dx: number, dy: number, moves = dragMoves(start, item, point)): Layout {
   const d = start.diagram
-  const diagram = { ...d, blocks: { ...d.blocks }, signals: { ...d.signals }, turnouts: { ...d.turnouts }, labels: [...d.labels] }
+  // a list of 500 entries is copied only when one of them moves
+  const diagram = {
+    ...d,
+    blocks: moves.blocks.length ? { ...d.blocks } : d.blocks,
+    signals: moves.signals.length ? { ...d.signals } : d.signals,
+    turnouts: moves.turnouts.length ? { ...d.turnouts } : d.turnouts,
+    labels: moves.labels.length ? [...d.labels] : d.labels,
+  }
   for (const id of moves.blocks) diagram.blocks[id] = { ...d.blocks[id]! }
   for (const id of moves.signals) diagram.signals[id] = { ...d.signals[id]! }
   for (const id of moves.turnouts) diagram.turnouts[id] = { ...d.turnouts[id]! }

@@ -156,6 +156,7 @@ describe('editing a layout', () => {
     const whole = dragStep(start, { kind: 'block', id: 'B2' }, null, 20, 20)
     expect(whole.diagram.blocks.B2!.path).toEqual([[420, 420], [620, 420]])
     expect(whole.diagram.blocks.B3).toBe(start.diagram.blocks.B3)
+    expect(whole.diagram.signals).toBe(start.diagram.signals)
   })
 
   it('finds the item an error is about from its path', () => {
