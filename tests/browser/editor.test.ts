@@ -277,6 +277,9 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
     expect(await drawnPoints(page, 'B3')).toEqual(['506,200', '684,200'])
     expect(await page.getByTestId('signal-S3').getAttribute('transform')).toMatch(/^translate\(490 225\)/)
     expect(await page.getByTestId('drag-layer').count()).toBe(0)
+    // the editor has no detectors to drop out: no block carries the drop-out mark
+    expect(await page.locator('[data-test^="block-"][data-dropout="true"]').count()).toBe(0)
+    expect(await page.getByTestId('dropout').count()).toBe(0)
     expect(await page.getByTestId('block-B1').count()).toBe(1)
     await screenshot(page, 'editor-end-dragged-1024x768')
 
