@@ -40,19 +40,7 @@ cleanup() {
 trap 'exit 130' INT TERM
 trap cleanup EXIT
 
-pg_setup "$DATA_DIR/pg" "$DB_PORT"
-pg_create_db blockbell
-export BLOCKBELL_DB_HOST=127.0.0.1 BLOCKBELL_DB_PORT="$PG_PORT" BLOCKBELL_DB_NAME=blockbell \
-       BLOCKBELL_DB_USER="$PG_USER" BLOCKBELL_DB_PASSWORD="$PG_PASSWORD"
-
-if [ -z "${NUXT_SESSION_PASSWORD:-}" ]; then
-  [ -f "$DATA_DIR/session-secret" ] || { random_secret > "$DATA_DIR/session-secret"; chmod 600 "$DATA_DIR/session-secret"; }
-  NUXT_SESSION_PASSWORD=$(cat "$DATA_DIR/session-secret")
-  export NUXT_SESSION_PASSWORD
-fi
-
-./node_modules/.bin/tsx server/database/cli.ts up
-./node_modules/.bin/tsx server/database/cli.ts seed
+start_app_database "$DATA_DIR" "$DB_PORT"
 
 log "Building the app (nuxt build)..."
 ./node_modules/.bin/nuxt build > "$DATA_DIR/build.log" 2>&1 || { tail -30 "$DATA_DIR/build.log"; die "nuxt build failed (full log: .data/build.log)"; }

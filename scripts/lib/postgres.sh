@@ -80,3 +80,21 @@ pg_stop() {
   pg_run "$PG_BIN/pg_ctl" -D "$PG_BASE/data" -m fast -w stop >/dev/null 2>&1 && log "PostgreSQL stopped"
   return 0
 }
+
+# The app's own database for npm start and the two-server trial: a cluster under <dir>/pg on <port>, the
+# database `blockbell` migrated and seeded with the demo, its settings exported for the server, and the
+# session secret kept in <dir>/session-secret (unless NUXT_SESSION_PASSWORD is set).
+start_app_database() {
+  local dir=$1 port=$2
+  pg_setup "$dir/pg" "$port"
+  pg_create_db blockbell
+  export BLOCKBELL_DB_HOST=127.0.0.1 BLOCKBELL_DB_PORT="$PG_PORT" BLOCKBELL_DB_NAME=blockbell \
+         BLOCKBELL_DB_USER="$PG_USER" BLOCKBELL_DB_PASSWORD="$PG_PASSWORD"
+  if [ -z "${NUXT_SESSION_PASSWORD:-}" ]; then
+    [ -f "$dir/session-secret" ] || { random_secret > "$dir/session-secret"; chmod 600 "$dir/session-secret"; }
+    NUXT_SESSION_PASSWORD=$(cat "$dir/session-secret")
+    export NUXT_SESSION_PASSWORD
+  fi
+  ./node_modules/.bin/tsx server/database/cli.ts up
+  ./node_modules/.bin/tsx server/database/cli.ts seed
+}

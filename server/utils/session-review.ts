@@ -1,3 +1,4 @@
+import { LRUCache } from 'lru-cache'
 import { Transform, type Readable } from 'node:stream'
 import { QueryTypes } from 'sequelize'
 import type pg from 'pg'
@@ -274,9 +275,11 @@ export function storeSessionGraph(sessionId: number): Promise<void> {
   return work
 }
 
+const settled = (endedAt: number | null): endedAt is number => endedAt !== null && Date.now() - endedAt > GRAPH_SETTLED_MS
+
 /** The session's train moves: stored once it has settled after its end, else from its steps as they stand. */
 async function sessionTrainMoves(sessionId: number, routeIds: string[], endedAt: number | null): Promise<{ trains: [string, TrainMove[]][], alarms: GraphAlarm[] }> {
-  if (endedAt !== null && Date.now() - endedAt > GRAPH_SETTLED_MS) {
+  if (settled(endedAt)) {
     const read = () => selectArrays(`SELECT trains, danger_passes FROM session_graph_data WHERE session_id = $1`, [sessionId])
     let stored = await read()
     if (!stored.length) {
@@ -305,7 +308,36 @@ export async function sessionGraph(sessionId: number, layout: Layout, routeIds: 
   const from = Math.max(startedAt, view.from ?? startedAt)
   const to = Math.min(endAt, view.to ?? endAt)
   if (from >= to) throw badFilter('from', 'the span asked for lies outside the session')
-  const { trains, alarms } = await sessionTrainMoves(sessionId, routeIds, endedAt)
-  const whole = timeDistanceOf(routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm })), trains, alarms, startedAt, endAt)
-  return fitGraph(whole, from, to, view.width)
+  const route = routeIds.map(id => ({ id, name: byId.get(id)!.name, lengthMm: byId.get(id)!.lengthMm }))
+  const whole = async () => {
+    const { trains, alarms } = await sessionTrainMoves(sessionId, routeIds, endedAt)
+    return timeDistanceOf(route, trains, alarms, startedAt, endAt)
+  }
+  if (!settled(endedAt)) return fitGraph(await whole(), from, to, view.width)
+  const key = `${sessionId}:${from}:${to}:${view.width}:${routeIds.join(',')}`
+  const drawn = fittedGraphs.get(key)
+  if (drawn) return drawn
+  const routeKey = `${sessionId}:${routeIds.join(',')}`
+  const graph = settledGraphs.get(routeKey) ?? await whole()
+  settledGraphs.set(routeKey, graph)
+  const fitted = fitGraph(graph, from, to, view.width)
+  fittedGraphs.set(key, fitted)
+  return fitted
+}
+
+const pointsOf = (graph: GraphData) => Math.max(1, graph.trains.reduce((n, t) => n + t.points.length, 0))
+
+/**
+ * Graphs of ended, settled sessions, kept in memory by route (whole) and by view (drawn): such a session's
+ * moves never change, so a second look, a zoom or another viewer skips the database and the fold. Bounded by
+ * the points held (about 40 bytes each), evicting the least recently used.
+ */
+const settledGraphs = new LRUCache<string, GraphData>({ maxSize: 2_000_000, sizeCalculation: pointsOf })
+const fittedGraphs = new LRUCache<string, GraphData>({ maxSize: 500_000, sizeCalculation: pointsOf })
+
+/** Forgets a session's graphs (its log was deleted). */
+export function forgetSessionGraphs(sessionId: number): void {
+  for (const cache of [settledGraphs, fittedGraphs]) {
+    for (const key of [...cache.keys()]) if (key.startsWith(`${sessionId}:`)) cache.delete(key)
+  }
 }

@@ -221,7 +221,7 @@ export async function deleteSession(id: number, confirm: string): Promise<{ id: 
   if (!session) throw createError({ statusCode: 404, message: `id: no session with id ${id}` })
   if (!session.endedAt) throw createError({ statusCode: 409, message: `Session “${session.name}” is still running; end it before deleting its log.` })
   if (confirm !== session.name) throw createError({ statusCode: 400, message: `confirm: type the session's name, “${session.name}”, to delete it`, data: { issues: [{ path: 'confirm', message: 'does not match the session name' }] } })
-  return db.sequelize.transaction(async (transaction) => {
+  const deleted = await db.sequelize.transaction(async (transaction) => {
     const count = async (sql: string) => {
       const [row] = await db.sequelize.query<{ n: string }>(`WITH gone AS (${sql} RETURNING 1) SELECT count(*) AS n FROM gone`,
         { replacements: { id }, transaction, type: QueryTypes.SELECT })
@@ -232,6 +232,8 @@ export async function deleteSession(id: number, confirm: string): Promise<{ id: 
     await db.sequelize.query(`DELETE FROM operating_sessions WHERE id = :id`, { replacements: { id }, transaction })
     return { id, events, checkpoints }
   })
+  forgetSessionGraphs(id)
+  return deleted
 }
 
 /** What a delete would remove, for the confirmation. */

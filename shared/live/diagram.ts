@@ -370,7 +370,7 @@ export function turnoutTagDirections(def: Layout, k: number, labelDirs: Record<s
     let best = first
     let bestGap = -1
     for (const dir of [first, ...TAG_DIRECTIONS]) {
-      const p: Point = [at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k]
+      const p = tagPoint(at, dir, k)
       const gap = others.filter(o => o.owner !== `turnout:${t.id}`).reduce((m, o) => Math.min(m, apart(o.at, p)), Infinity)
       // a clear enough place is taken at once, so tags stay on their usual side where they can
       if (gap >= MARK.hit * k) {
@@ -383,9 +383,25 @@ export function turnoutTagDirections(def: Layout, k: number, labelDirs: Record<s
       }
     }
     out[t.id] = best
-    others.push({ owner: `tag:${t.id}`, at: [at[0] + best[0] * MARK.tagOffset * k, at[1] + best[1] * MARK.tagOffset * k] })
+    others.push({ owner: `tag:${t.id}`, at: tagPoint(at, best, k) })
   }
   return out
+}
+
+/** Where a turnout's tag is drawn: `dir` (from turnoutTagDirections) away from its point, at mark scale `k`. */
+export function tagPoint(at: Point, dir: Point, k: number): Point {
+  return [at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k]
+}
+
+export interface DrawnTurnout { id: string, at: Point, legs: { normal: [Point, Point], reverse: [Point, Point] }, tag: Point }
+
+/** Every turnout that is drawn, with its legs and where its tag goes (as the Panel and the editor draw them). */
+export function drawnTurnouts(def: Layout, k: number, tagDirs: Record<string, Point>): DrawnTurnout[] {
+  return def.turnouts.flatMap((t) => {
+    const legs = turnoutLegs(def, t.id)
+    const at = def.diagram.turnouts[t.id]?.at
+    return legs && at ? [{ id: t.id, at, legs, tag: tagPoint(at, tagDirs[t.id] ?? [0, 1], k) }] : []
+  })
 }
 
 /**
@@ -407,7 +423,7 @@ export function diagramMarks(def: Layout, k: number, labelDirs: Record<string, P
     const at = d.turnouts[t.id]?.at
     const dir = tagDirs[t.id]
     if (!at || !dir) continue
-    out.push({ key: `turnout:${t.id}`, box: hitBox([at[0] + dir[0] * MARK.tagOffset * k, at[1] + dir[1] * MARK.tagOffset * k], 2 * MARK.tag, 2 * MARK.tag, k) })
+    out.push({ key: `turnout:${t.id}`, box: hitBox(tagPoint(at, dir, k), 2 * MARK.tag, 2 * MARK.tag, k) })
     out.push({ key: `turnout:${t.id}`, at, r: 6 })
   }
   for (const [id, b] of Object.entries(d.blocks)) {

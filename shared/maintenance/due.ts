@@ -40,15 +40,11 @@ export interface DueVerdict {
 
 const DAY_MS = 86_400_000
 
-export function dueState(use: BlockUse, thresholds: CleaningThresholds, now: number): DueVerdict {
-  const counters: { value: number, limit: number | null, words: (v: number, l: number) => string }[] = [
-    { value: use.passages, limit: thresholds.passages, words: (v, l) => `${v} passages of ${l}` },
-    { value: use.occupiedSeconds / 3600, limit: thresholds.occupiedHours, words: (v, l) => `${v.toFixed(1)} hours occupied of ${l}` },
-    { value: use.dropouts, limit: thresholds.dropouts, words: (v, l) => `${v} dropouts of ${l}` },
-  ]
-  if (use.lastCleanedAt !== null) {
-    counters.push({ value: (now - use.lastCleanedAt) / DAY_MS, limit: thresholds.days, words: (v, l) => `${Math.floor(v)} days since cleaned of ${l}` })
-  }
+/** A counter against its limit (`null` or 0: not counted), with its words for the reasons. */
+export interface DueCounter { value: number, limit: number | null, words: (value: number, limit: number) => string }
+
+/** How far along the worst counter is (1 = at its limit), and the words for every counter from due soon on. */
+export function worstCounter(counters: DueCounter[]): { share: number, reasons: string[] } {
   let share = 0
   const reasons: string[] = []
   for (const c of counters) {
@@ -57,13 +53,27 @@ export function dueState(use: BlockUse, thresholds: CleaningThresholds, now: num
     if (s >= DUE_SOON_SHARE) reasons.push(c.words(c.value, c.limit))
     share = Math.max(share, s)
   }
+  return { share, reasons }
+}
+
+export const dueStateOf = (share: number): DueState => share >= 1 ? 'due' : share >= DUE_SOON_SHARE ? 'due-soon' : 'ok'
+
+export function dueState(use: BlockUse, thresholds: CleaningThresholds, now: number): DueVerdict {
+  const counters: DueCounter[] = [
+    { value: use.passages, limit: thresholds.passages, words: (v, l) => `${v} passages of ${l}` },
+    { value: use.occupiedSeconds / 3600, limit: thresholds.occupiedHours, words: (v, l) => `${v.toFixed(1)} hours occupied of ${l}` },
+    { value: use.dropouts, limit: thresholds.dropouts, words: (v, l) => `${v} dropouts of ${l}` },
+  ]
+  if (use.lastCleanedAt !== null) {
+    counters.push({ value: (now - use.lastCleanedAt) / DAY_MS, limit: thresholds.days, words: (v, l) => `${Math.floor(v)} days since cleaned of ${l}` })
+  }
+  let { share, reasons } = worstCounter(counters)
   if (use.lastCleanedAt === null && thresholds.days !== null) {
     // never cleaned: due soon, so a new layout asks for a first cleaning to count from without crying wolf
-    reasons.push('no cleaning recorded yet')
+    reasons = [...reasons, 'no cleaning recorded yet']
     share = Math.max(share, DUE_SOON_SHARE)
   }
-  const state: DueState = share >= 1 ? 'due' : share >= DUE_SOON_SHARE ? 'due-soon' : 'ok'
-  return { state, share, reasons }
+  return { state: dueStateOf(share), share, reasons }
 }
 
 export const CLEANING_METHODS = ['dry brush', 'vacuum', 'wipe', 'abrasive block', 'fluid', 'other'] as const

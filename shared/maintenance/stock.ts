@@ -1,4 +1,4 @@
-import { DUE_SOON_SHARE, type DueState } from './due'
+import { dueStateOf, worstCounter, type DueCounter, type DueState } from './due'
 
 /**
  * Running time and distance of one stock item, from the journal's train-description entries while the item ran
@@ -51,17 +51,10 @@ export interface ServiceInterval {
 
 /** Due when the running since the last service reaches an interval, due soon from DUE_SOON_SHARE of it. */
 export function stockDueState(running: { seconds: number, scaleMetres: number }, interval: ServiceInterval): { state: DueState, reasons: string[] } {
-  const counters = [
+  const counters: DueCounter[] = [
     { value: running.seconds / 3600, limit: interval.hours, words: (v: number, l: number) => `${v.toFixed(1)} running hours of ${l}` },
     { value: running.scaleMetres / 1000, limit: interval.km, words: (v: number, l: number) => `${v.toFixed(1)} scale km of ${l}` },
   ]
-  let share = 0
-  const reasons: string[] = []
-  for (const c of counters) {
-    if (c.limit === null || c.limit <= 0) continue
-    const s = c.value / c.limit
-    if (s >= DUE_SOON_SHARE) reasons.push(c.words(c.value, c.limit))
-    share = Math.max(share, s)
-  }
-  return { state: share >= 1 ? 'due' : share >= DUE_SOON_SHARE ? 'due-soon' : 'ok', reasons }
+  const { share, reasons } = worstCounter(counters)
+  return { state: dueStateOf(share), reasons }
 }

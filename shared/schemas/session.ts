@@ -11,15 +11,28 @@ export const StartSessionBody = z.object({
   fastClockRatio: z.coerce.number({ error: 'fastClockRatio is a number' })
     .positive('fastClockRatio is more than 0')
     .max(FAST_CLOCK_MAX, `fastClockRatio is at most ${FAST_CLOCK_MAX}`),
-  fastClockStart: z.union([ClockTime, z.literal('').transform(() => null), z.null()]).optional(),
+  fastClockStart: z.union([ClockTime, z.literal('').transform(() => null), z.null()], { error: 'fastClockStart is a time of day like 06:30' }).optional(),
   notes: z.string().trim().max(2000, 'notes are at most 2000 characters').optional(),
 })
 export type StartSessionBody = z.infer<typeof StartSessionBody>
 
-const When = (name: string) => z.union([
-  z.coerce.number().int().nonnegative(),
-  z.string().trim().refine(v => !Number.isNaN(Date.parse(v)), `${name} is a date or time (ISO 8601) or epoch milliseconds`).transform(v => Date.parse(v)),
-]).optional()
+/** The latest time a JavaScript Date holds (ECMA-262 §21.4.1.1: ±8.64e15 ms from the epoch). */
+const LATEST_TIME_MS = 8.64e15
+
+/** A time given as epoch milliseconds or as an ISO 8601 date or time. */
+const When = (name: string) => {
+  const message = `${name} is a date or time (ISO 8601) or epoch milliseconds`
+  return z.preprocess((v) => {
+    if (typeof v !== 'string') return v
+    const text = v.trim()
+    if (/^-?\d+(\.\d*)?$/.test(text)) return Number(text)
+    const parsed = Date.parse(text)
+    return Number.isNaN(parsed) ? text : parsed
+  }, z.number({ error: message })
+    .min(0, { error: `${name} is after 1970`, abort: true })
+    .max(LATEST_TIME_MS, { error: `${name} is too far in the future`, abort: true })
+    .int(message)).optional()
+}
 
 export const ListSessionsQuery = z.object({
   layout: z.string().trim().min(1).max(64).optional(),
@@ -47,15 +60,18 @@ export const SessionEventsQuery = z.object({
 export type SessionEventsQuery = z.infer<typeof SessionEventsQuery>
 
 export const ReplayQuery = z.object({
-  at: z.coerce.number({ error: 'at is a time in epoch milliseconds' }).int('at is whole milliseconds').nonnegative(),
+  at: z.coerce.number({ error: 'at is a time in epoch milliseconds' }).nonnegative('at is a time in epoch milliseconds')
+    .max(LATEST_TIME_MS, { error: 'at is too far in the future', abort: true }).int('at is whole milliseconds'),
 })
 
 export const GraphQuery = z.object({
   route: z.string({ error: 'route is a comma-separated list of block ids' }).trim().min(1, 'route lists at least one block').max(2000)
     .transform(v => v.split(',').map(s => s.trim()).filter(Boolean))
     .refine(v => v.length > 0 && v.length <= 200, 'route lists 1 to 200 blocks'),
-  from: z.coerce.number({ error: 'from is a time in epoch milliseconds' }).int('from is whole milliseconds').nonnegative().optional(),
-  to: z.coerce.number({ error: 'to is a time in epoch milliseconds' }).int('to is whole milliseconds').nonnegative().optional(),
+  from: z.coerce.number({ error: 'from is a time in epoch milliseconds' }).nonnegative('from is a time in epoch milliseconds')
+    .max(LATEST_TIME_MS, { error: 'from is too far in the future', abort: true }).int('from is whole milliseconds').optional(),
+  to: z.coerce.number({ error: 'to is a time in epoch milliseconds' }).nonnegative('to is a time in epoch milliseconds')
+    .max(LATEST_TIME_MS, { error: 'to is too far in the future', abort: true }).int('to is whole milliseconds').optional(),
   width: z.coerce.number({ error: 'width is the graph\'s width in pixels' }).int('width is whole pixels').min(100, 'width is at least 100 pixels').max(4000, 'width is at most 4000 pixels').default(1200),
 }).refine(q => q.from === undefined || q.to === undefined || q.from < q.to, { message: 'from is before to', path: ['from'] })
 

@@ -102,7 +102,8 @@ describe('a locked turnout on a tablet (Debian chromium, touch)', () => {
     // asked for, not thrown: the diagram still shows normal until the turnout reports
     await expect.poll(() => sheet.getByTestId('throw-waiting').count(), POLL).toBe(1)
     expect(await page.getByTestId('turnout-T4').getAttribute('data-position')).toBe('normal')
-    expect(await page.getByTestId('feed').textContent()).toContain('Ada Wrenfield forced T4 to reverse although UM4 is occupied')
+    // the request goes out on MQTT before the journal's feed entry reaches this panel: wait for it
+    await expect.poll(() => page.getByTestId('feed').textContent(), POLL).toContain('Ada Wrenfield forced T4 to reverse although UM4 is occupied')
     const alarm = viewer.change(c => c.type === 'alarm')
     await device.publishAsync(`${PREFIX}turnout/T4`, 'reverse', { retain: true })
     expect(await alarm).toMatchObject({ alarm: { kind: 'turnout-under-lock', turnout: 'T4', block: 'UM4', signal: null } })

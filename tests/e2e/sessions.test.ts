@@ -267,6 +267,8 @@ describe('a scripted session', () => {
     const endedAt = Date.parse((await viewer.get(`/api/sessions/${id}`)).body.session.endedAt)
     await sleep(Math.max(0, endedAt + 16_000 - Date.now()))
     expect((await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4`)).body).toEqual(firstGraph)
+    // asked again (the server keeps a settled session's graphs in memory), by another role too: the same graph
+    expect((await admin.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4`)).body).toEqual(firstGraph)
     const [stored] = await db.sequelize.query<{ n: string }>(`SELECT count(*) AS n FROM session_graph_data WHERE session_id = :id`, { replacements: { id }, type: QueryTypes.SELECT })
     expect(Number(stored!.n)).toBe(1)
     // a span of it, and a span outside it
@@ -294,6 +296,7 @@ describe('a scripted session', () => {
       { replacements: { id }, type: QueryTypes.SELECT }) as [{ left: string }]
     expect(Number(left)).toBe(0)
     expect((await viewer.get(`/api/sessions/${id}`)).status).toBe(404)
+    expect((await viewer.get(`/api/sessions/${id}/graph?route=UM1,UM2,UM3,UM4`)).status).toBe(404)
   })
 })
 
