@@ -1,5 +1,6 @@
 import type { Config } from 'tailwindcss'
 import plugin from 'tailwindcss/plugin'
+import { blend } from './shared/theme/contrast'
 
 // Blockbell's own palette: "night" greys with a green cast for dim layout rooms, "brass" for actions and
 // focus, "tarn" blue for occupied track, and plain status colours that always travel with a word or a shape
@@ -23,12 +24,27 @@ export const palette = {
 export const THEME_ROLES = [
   'bg', 'surface', 'surface-2', 'border', 'border-strong', 'text', 'dim', 'accent', 'on-accent', 'accent-fill',
   'track-free', 'track-occupied', 'danger', 'caution', 'proceed', 'glyph', 'warn', 'on-warn', 'alarm', 'on-alarm', 'ok',
-  'area-0', 'area-1', 'area-2', 'area-3',
+  'area-0', 'area-1', 'area-2', 'area-3', 'area-0-wash', 'area-1-wash', 'area-2-wash', 'area-3-wash',
 ] as const
 export type ThemeColours = Record<typeof THEME_ROLES[number], string>
+type AreaWash = `area-${0 | 1 | 2 | 3}-wash`
+
+/**
+ * An area's band on the diagram has edges in the area's full colour (3:1 and more against the ground) and an
+ * inside tinted this much with it over the ground (`area-N-wash`), faint enough that the track drawn on the
+ * band keeps 3:1 against it (tests/unit/theme/contrast.test.ts).
+ */
+export const AREA_WASH_SHARE = 0.12
+const withWashes = (t: Omit<ThemeColours, AreaWash>): ThemeColours => ({
+  ...t,
+  'area-0-wash': blend(t['area-0'], t.bg, AREA_WASH_SHARE),
+  'area-1-wash': blend(t['area-1'], t.bg, AREA_WASH_SHARE),
+  'area-2-wash': blend(t['area-2'], t.bg, AREA_WASH_SHARE),
+  'area-3-wash': blend(t['area-3'], t.bg, AREA_WASH_SHARE),
+})
 
 const p = palette
-export const themes: { dark: ThemeColours, light: ThemeColours } = {
+const chosen: { dark: Omit<ThemeColours, AreaWash>, light: Omit<ThemeColours, AreaWash> } = {
   dark: {
     'bg': p.night[950], 'surface': p.night[900], 'surface-2': p.night[800], 'border': p.night[700], 'border-strong': p.night[400],
     'text': p.night[50], 'dim': p.night[200], 'accent': p.brass[400], 'on-accent': p.night[950], 'accent-fill': p.brass[500],
@@ -44,6 +60,7 @@ export const themes: { dark: ThemeColours, light: ThemeColours } = {
     'area-0': p.sky[700], 'area-1': p.heather[700], 'area-2': p.brass[800], 'area-3': p.ok[700],
   },
 }
+export const themes: { dark: ThemeColours, light: ThemeColours } = { dark: withWashes(chosen.dark), light: withWashes(chosen.light) }
 
 const cssVars = (t: ThemeColours) => Object.fromEntries(Object.entries(t).map(([k, v]) => [`--bb-${k}`, v]))
 

@@ -1,6 +1,7 @@
 import type { Layout } from '#shared/schemas/layout'
 import { validateLayout, type ValidationError } from '#shared/signalling'
-import { itemOfError, shareUnchanged, type ItemRef } from '#shared/layouts/editing'
+import type { ShallowRef } from 'vue'
+import { itemOfError, shareUnchanged, type DragMoves, type ItemRef } from '#shared/layouts/editing'
 
 const HISTORY = 100
 /** The draft is written to localStorage this long after the last change (and at once when the page is left). */
@@ -11,10 +12,18 @@ export interface StoredDraft { baseVersion: number, definition: Layout, keptAt: 
 export const draftKey = (slug: string) => `blockbell:layout-draft:${slug}`
 
 /**
+ * A drag under way: what it moves, and the layout as it is drawn now (null until the first step). The drawing
+ * reads `layout` in the one layer that draws the moving parts, so a step redraws that layer alone.
+ */
+export interface EditorDrag { moves: DragMoves, layout: Readonly<ShallowRef<Layout | null>> }
+
+/**
  * The editor's working copy of a layout: every change goes through `change(fn)`, which keeps the state before
  * it for undo, validates the result (validateLayout, the same check the server makes) and keeps the draft in
  * this browser's localStorage, so a tablet that sleeps or a reload loses nothing.
- * A drag changes the drawing many times a second: `begin()` once, `preview(fn)` as it moves, `commit()` at the end.
+ * A drag changes the drawing many times a second: `begin(moves)` once, `preview(fn)` as it moves, `commit()` at
+ * the end. While it lasts the working copy stays as it was when it began (so nothing that shows the working
+ * copy works again at every step): each step goes to `drag.layout`, and the end makes it the working copy.
  *
  * The working copy is plain data in a shallowRef, never changed in place: each change makes a new layout that
  * shares every part it did not touch with the one before (shareUnchanged). So nothing pays for Vue's deep
@@ -103,19 +112,27 @@ export function useLayoutEditor(slug: string, initial: Layout, baseVersion: Ref<
   }
 
   let dragStart: Layout | null = null
-  function begin() { dragStart = def.value }
+  const dragLayout = shallowRef<Layout | null>(null)
+  const drag = shallowRef<EditorDrag | null>(null)
+  function begin(moves: DragMoves) {
+    dragStart = def.value
+    dragLayout.value = null
+    drag.value = { moves, layout: dragLayout }
+  }
   /** One step of a drag: `fn` gets the drawing as it was when the drag began and returns it as it is now. */
   function preview(fn: (start: Layout) => Layout) {
-    if (dragStart) show(fn(dragStart))
+    if (dragStart) dragLayout.value = fn(dragStart)
   }
   function commit() {
-    if (!dragStart) return
     const start = dragStart
+    const moved = dragLayout.value
     dragStart = null
-    if (shareUnchanged(start, def.value) === start) {
-      def.value = start
-      return
-    }
+    dragLayout.value = null
+    drag.value = null
+    if (!start || !moved) return
+    const next = shareUnchanged(start, moved)
+    if (next === start) return
+    def.value = next
     remember(start)
     settled()
   }
@@ -159,7 +176,7 @@ export function useLayoutEditor(slug: string, initial: Layout, baseVersion: Ref<
     settled()
   }
 
-  return { def, selected, validation, errors, errorsByItem, dirty, canUndo, canRedo, change, begin, preview, commit, undo, redo, markSaved, restoreDraft }
+  return { def, drag, selected, validation, errors, errorsByItem, dirty, canUndo, canRedo, change, begin, preview, commit, undo, redo, markSaved, restoreDraft }
 }
 
 export type LayoutEditor = ReturnType<typeof useLayoutEditor>

@@ -209,18 +209,151 @@ export function moveItem(def: Layout, item: ItemRef, dx: number, dy: number): vo
   }
 }
 
+/** One point of a block's drawn track: the block and the point's place in its path. */
+export interface TrackPoint { block: string, index: number }
+
+/** What stands at one end of a block's track and goes with that end when it is dragged. */
+export interface EndFollowers {
+  /** The ends of other blocks' tracks drawn at the same place (joined to it). */
+  ends: TrackPoint[]
+  signals: string[]
+  turnouts: string[]
+}
+
+const isEnd = (path: Point[], index: number) => index === 0 || index === path.length - 1
+
+/** Index of the end of `path` (first or last point) nearest to `p`. */
+function nearestEnd(path: Point[], p: Point): number {
+  const last = path.length - 1
+  const [a, b] = [path[0]!, path[last]!]
+  return Math.hypot(b[0] - p[0], b[1] - p[1]) < Math.hypot(a[0] - p[0], a[1] - p[1]) ? last : 0
+}
+
+/**
+ * What follows point `index` of `block`'s track when it is dragged. A bend moves alone (nothing follows). An
+ * end takes with it the ends of other blocks' tracks drawn at the same place (the neighbours joined there),
+ * and the signals and turnouts drawn at that end: a signal stands at an end of its `from` block and a
+ * turnout at an end of its own block (where the legs part), each at the end of that block's track nearest
+ * to where it is drawn; it follows when that end is the dragged end or one joined to it. A signal or turnout
+ * drawn exactly on the dragged end follows whatever its block.
+ */
+export function trackEndFollowers(def: Layout, block: string, index: number): EndFollowers {
+  const none: EndFollowers = { ends: [], signals: [], turnouts: [] }
+  const path = def.diagram.blocks[block]?.path
+  const at = path?.[index]
+  if (!path || !at || !isEnd(path, index)) return none
+  const ends: TrackPoint[] = []
+  for (const [id, b] of Object.entries(def.diagram.blocks)) {
+    if (id === block || !b.path.length) continue
+    const last = b.path.length - 1
+    if (samePoint(b.path[0]!, at)) ends.push({ block: id, index: 0 })
+    else if (samePoint(b.path[last]!, at)) ends.push({ block: id, index: last })
+  }
+  const joined = [{ block, index }, ...ends]
+  const standsAtJoinedEnd = (owner: string, p: Point) => {
+    if (samePoint(p, at)) return true
+    const own = def.diagram.blocks[owner]?.path
+    if (!own?.length) return false
+    const end = nearestEnd(own, p)
+    return joined.some(j => j.block === owner && j.index === end)
+  }
+  const signals = def.signals.filter((s) => {
+    const drawn = def.diagram.signals[s.id]
+    return drawn && standsAtJoinedEnd(s.from, drawn.at)
+  }).map(s => s.id)
+  const turnouts = def.turnouts.filter((t) => {
+    const drawn = def.diagram.turnouts[t.id]
+    return drawn && standsAtJoinedEnd(t.block, drawn.at)
+  }).map(t => t.id)
+  return { ends, signals, turnouts }
+}
+
 /**
  * Moves one point of a block's track (a bend, or an end) by (dx, dy) from where it is, onto the grid and
- * inside the drawing area. The rest of the track and the berth stay where they are.
+ * inside the drawing area. The rest of the track and the berth stay where they are. When the point is an
+ * end, what stands there follows (trackEndFollowers): the joined ends of neighbouring tracks go to the same
+ * new place, and the signals and turnouts drawn at that end move by as much as the end did, so the drawing
+ * stays joined.
  */
 export function movePathPoint(def: Layout, block: string, index: number, dx: number, dy: number): void {
   const d = def.diagram.blocks[block]
   const p = d?.path[index]
   if (!d || !p) return
+  const followers = trackEndFollowers(def, block, index)
   const { width: w, height: h } = def.diagram
-  const next = [...d.path]
-  next[index] = moved(snap(moved(p, dx, dy, w, h)), 0, 0, w, h)
-  d.path = next
+  const to = moved(snap(moved(p, dx, dy, w, h)), 0, 0, w, h)
+  const [mx, my] = [to[0] - p[0], to[1] - p[1]]
+  const place = (entry: { path: Point[] }, i: number) => {
+    const next = [...entry.path]
+    next[i] = [to[0], to[1]]
+    entry.path = next
+  }
+  place(d, index)
+  for (const end of followers.ends) place(def.diagram.blocks[end.block]!, end.index)
+  for (const id of followers.signals) {
+    const s = def.diagram.signals[id]!
+    s.at = moved(s.at, mx, my, w, h)
+  }
+  for (const id of followers.turnouts) {
+    const t = def.diagram.turnouts[id]!
+    t.at = moved(t.at, mx, my, w, h)
+  }
+}
+
+/** The parts of the drawing a drag moves (by their keys in `diagram`; labels by their place in the list). */
+export interface DragMoves {
+  /** Blocks whose track changes. */
+  blocks: string[]
+  /** Blocks whose berth moves. */
+  berths: string[]
+  signals: string[]
+  turnouts: string[]
+  labels: number[]
+}
+
+/** What a drag of `item` moves: the whole item, or (`point` not null) that point of a block's track with what follows it. */
+export function dragMoves(def: Layout, item: ItemRef, point: number | null): DragMoves {
+  const out: DragMoves = { blocks: [], berths: [], signals: [], turnouts: [], labels: [] }
+  const d = def.diagram
+  if (item.kind === 'block' && d.blocks[item.id]) {
+    out.blocks.push(item.id)
+    if (point === null) {
+      if (d.blocks[item.id]!.label) out.berths.push(item.id)
+    } else {
+      const f = trackEndFollowers(def, item.id, point)
+      out.blocks.push(...f.ends.map(e => e.block))
+      out.signals.push(...f.signals)
+      out.turnouts.push(...f.turnouts)
+    }
+  } else if (item.kind === 'signal' && d.signals[item.id]) out.signals.push(item.id)
+  else if (item.kind === 'turnout' && d.turnouts[item.id]) out.turnouts.push(item.id)
+  else if (item.kind === 'label' && d.labels[Number(item.id)]) out.labels.push(Number(item.id))
+  return out
+}
+
+/**
+ * One step of a drag, as a new layout: `start` (the layout when the drag began, never changed) with `item`
+ * moved by (dx, dy), or point `point` of its track (movePathPoint). Only the entries of the drawing that move
+ * are copied; everything else is `start`'s own objects, so the drawing can tell at once what moved.
+ */
+export function dragStep(start: Layout, item: ItemRef, point: number | null, dx: number, dy: number, moves = dragMoves(start, item, point)): Layout {
+  const d = start.diagram
+  // a list of 500 entries is copied only when one of them moves
+  const diagram = {
+    ...d,
+    blocks: moves.blocks.length ? { ...d.blocks } : d.blocks,
+    signals: moves.signals.length ? { ...d.signals } : d.signals,
+    turnouts: moves.turnouts.length ? { ...d.turnouts } : d.turnouts,
+    labels: moves.labels.length ? [...d.labels] : d.labels,
+  }
+  for (const id of moves.blocks) diagram.blocks[id] = { ...d.blocks[id]! }
+  for (const id of moves.signals) diagram.signals[id] = { ...d.signals[id]! }
+  for (const id of moves.turnouts) diagram.turnouts[id] = { ...d.turnouts[id]! }
+  for (const i of moves.labels) diagram.labels[i] = { ...d.labels[i]! }
+  const next = { ...start, diagram }
+  if (item.kind === 'block' && point !== null) movePathPoint(next, item.id, point, dx, dy)
+  else moveItem(next, item, dx, dy)
+  return next
 }
 
 /** Renames an item's id everywhere it is referred to. False when the new id is taken. */
@@ -334,4 +467,16 @@ export function shareUnchanged<T>(prev: T | undefined, next: T): T {
     if (kept !== before[key] || !(key in before)) same = false
   }
   return (same ? prev : out) as T
+}
+
+/** The arrow drawn where a link joins two drawn blocks, pointing the way trains run (null when either is not drawn). */
+export function linkArrow(def: Layout, link: { from: string, to: string }): { key: string, x: number, y: number, angle: number } | null {
+  const a = def.diagram.blocks[link.from]?.path
+  const b = def.diagram.blocks[link.to]?.path
+  if (!a?.length || !b?.length) return null
+  const end = a[a.length - 1]!
+  const start = b[0]!
+  const next = b[1] ?? start
+  const angle = Math.atan2(next[1] - start[1], next[0] - start[0]) * 180 / Math.PI
+  return { key: `${link.from}>${link.to}`, x: (end[0] + start[0]) / 2, y: (end[1] + start[1]) / 2, angle }
 }

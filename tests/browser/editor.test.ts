@@ -5,12 +5,15 @@ import { validateLayout } from '#shared/signalling'
 import { DEMO, signedIn, unique } from '../support/http-client'
 import { openBrowser, screenshot, signInThroughForm, type BrowserSession } from '../support/browser'
 import { lineLayout } from '../support/layout-fixtures'
+import { themes } from '../../tailwind.config'
+import { hexChannels } from '#shared/theme/contrast'
 
 // The layout editor on a touch screen at 1024x768, driven by taps only: build a layout from nothing, see a
 // problem and fix it, try the signalling, save it, watch it on the Panel, export it and import the export.
 const MQTT_URL = process.env.BLOCKBELL_TEST_MQTT_URL ?? 'mqtt://127.0.0.1:18839'
 const DEVICE = { username: 'fake-layout', password: process.env.BLOCKBELL_FAKE_MQTT_PASSWORD ?? 'fake-layout-demo' }
 const POLL = { interval: 50, timeout: 5000 }
+const rgb = (hex: string) => `rgb(${hexChannels(hex).join(', ')})`
 
 /** Taps the drawing at a point given in drawing units (through the zoom the canvas shows now). */
 async function tapAt(page: Page, x: number, y: number) {
@@ -228,6 +231,70 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
     expect(problems).toEqual([])
   })
 
+  it('drags an end of a block with a finger: the joined ends, the signal and the turnout there follow, and one undo puts all back', async () => {
+    const { page } = browser
+    const admin = await signedIn('admin')
+    // the line's B1 ends at (290,200), where B2 now starts and a siding B4 leaves by turnout T1; signal S2
+    // (at the exit of B1) stands beside that end at (290,225)
+    const definition = lineLayout(`Sallow Joint ${unique()}`, 3)
+    definition.blocks.push({ id: 'B4', name: 'Sallow siding', lengthMm: 700, detectors: ['D4'] })
+    definition.links.push({ from: 'B1', to: 'B4' })
+    definition.turnouts = [{ id: 'T1', block: 'B1', normal: 'B2', reverse: 'B4' }]
+    definition.diagram!.blocks!.B2!.path = [[290, 200], [490, 200]]
+    definition.diagram!.blocks!.B4 = { path: [[290, 200], [360, 260], [480, 260]] }
+    definition.diagram!.turnouts = { T1: { at: [290, 200] } }
+    expect(validateLayout(definition).ok).toBe(true)
+    const created = await admin.post<{ id: number, slug: string }>('/api/layouts', { name: definition.name, definition })
+    expect(created.status).toBe(201)
+    made.push(created.body.id)
+    const { slug } = created.body
+
+    await page.goto(`/layouts/${slug}/edit`)
+    await page.getByTestId('block-B4').locator('polyline.bb-track').waitFor({ state: 'attached' })
+    const signalAt = () => page.getByTestId('signal-S2').getAttribute('transform')
+    const turnoutAt = async () => {
+      const blade = page.getByTestId('turnout-T1').locator('circle.bb-blade')
+      return [await blade.getAttribute('cx'), await blade.getAttribute('cy')].join(',')
+    }
+    const drawn = async () => ({ B1: await drawnPoints(page, 'B1'), B2: await drawnPoints(page, 'B2'), B4: await drawnPoints(page, 'B4'), S2: await signalAt(), T1: await turnoutAt() })
+    const before = await drawn()
+    expect(before.S2).toMatch(/^translate\(290 225\)/)
+    expect(before.T1).toBe('290,200')
+    await page.getByTestId('tool-select').tap()
+    await tapAt(page, 150, 200)
+    await expect.poll(() => page.getByTestId('inspector').textContent(), POLL).toContain('Block B1')
+    await page.getByTestId('track-point-1').waitFor({ state: 'attached' })
+
+    // the end, 62 units right and 78 down: (352,278) on the 20-unit grid is (360,280), a move of (70,80)
+    const from = await screenAt(page, 290, 200)
+    await touchDrag(page, from, { x: from.x + 62 * from.scale, y: from.y + 78 * from.scale })
+    await expect.poll(() => draftPath(page, slug, 'B1'), POLL).toEqual([[100, 200], [360, 280]])
+    expect(await draftPath(page, slug, 'B2')).toEqual([[360, 280], [490, 200]])
+    expect(await draftPath(page, slug, 'B4')).toEqual([[360, 280], [360, 260], [480, 260]])
+    await expect.poll(signalAt, POLL).toMatch(/^translate\(360 305\)/)
+    expect(await turnoutAt()).toBe('360,280')
+    // B3 and S3 stay where they were; the drag's own layer is gone, each item drawn once
+    expect(await drawnPoints(page, 'B3')).toEqual(['506,200', '684,200'])
+    expect(await page.getByTestId('signal-S3').getAttribute('transform')).toMatch(/^translate\(490 225\)/)
+    expect(await page.getByTestId('drag-layer').count()).toBe(0)
+    // the editor has no detectors to drop out: no block carries the drop-out mark
+    expect(await page.locator('[data-test^="block-"][data-dropout="true"]').count()).toBe(0)
+    expect(await page.getByTestId('dropout').count()).toBe(0)
+    expect(await page.getByTestId('block-B1').count()).toBe(1)
+    await screenshot(page, 'editor-end-dragged-1024x768')
+
+    // one drag, one undo step
+    await page.getByTestId('undo').tap()
+    await expect.poll(drawn, POLL).toEqual(before)
+    await expect.poll(() => draftPath(page, slug, 'B2'), POLL).toEqual([[290, 200], [490, 200]])
+    expect(await draftPath(page, slug, 'B4')).toEqual([[290, 200], [360, 260], [480, 260]])
+    expect(await page.getByTestId('undo').isDisabled()).toBe(true)
+    await page.getByTestId('redo').tap()
+    await expect.poll(signalAt, POLL).toMatch(/^translate\(360 305\)/)
+    expect(await turnoutAt()).toBe('360,280')
+    expect(problems).toEqual([])
+  })
+
   it('picks an area\'s colour from the swatches, saves it, and the Panel draws the area\'s band and legend in it', async () => {
     const { page } = browser
     const layout = await bentLine(made)
@@ -259,6 +326,11 @@ describe('layout editor on a touch screen (Debian chromium)', () => {
       await expect.poll(() => page.evaluate(() => document.documentElement.classList.contains('light')), POLL).toBe(theme === 'light')
       // the buttons' colours fade into the new theme (transition-colors): let them finish first
       await page.evaluate(() => Promise.all(document.getAnimations().map(x => x.finished)))
+      // the band is drawn in the colours the contrast test checks (tests/unit/theme/contrast.test.ts): edges in
+      // the area's colour, the inside in its faint tint
+      const stroke = (test: string) => page.getByTestId(test).evaluate(el => getComputedStyle(el).stroke)
+      expect(await stroke('area-band-hollin')).toBe(rgb(themes[theme]['area-2']))
+      expect(await stroke('area-wash-hollin')).toBe(rgb(themes[theme]['area-2-wash']))
       await screenshot(page, `editor-area-colour-${theme}-1024x768`, false)
     }
     await page.getByTestId('theme').tap() // back to dark

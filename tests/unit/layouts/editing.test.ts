@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { LayoutDefinition, type Layout } from '#shared/schemas/layout'
 import { validateLayout } from '#shared/signalling'
-import { addBlock, addSignal, addTurnout, deleteItem, itemOfError, moveItem, movePathPoint, renameId, snap } from '#shared/layouts/editing'
+import { addBlock, addSignal, addTurnout, deleteItem, dragMoves, dragStep, itemOfError, moveItem, movePathPoint, renameId, snap, trackEndFollowers } from '#shared/layouts/editing'
 
 const empty = (): Layout => LayoutDefinition.parse({ schema: 1, name: 'Sallow Light', scale: { name: 'N', ratio: 148 }, blocks: [{ id: 'X', name: 'x', lengthMm: 1, detectors: [] }], links: [] })
 
@@ -83,6 +83,80 @@ describe('editing a layout', () => {
     movePathPoint(d, 'B4', 3, 20, 20)
     movePathPoint(d, 'B9', 0, 20, 20)
     expect(d.diagram.blocks).toEqual(before)
+  })
+
+  // The junction with its turnout T1 where B2 parts into B3 and B4 (600,400), S1 at the exit of B1 (380,420)
+  // and S2 at the exit of B2 (580,420), both drawn beside the track before the joint they stand at.
+  function signalledJunction(): Layout {
+    const d = junction()
+    addTurnout(d, [600, 400], 30)
+    addSignal(d, [380, 420], 30)
+    addSignal(d, [580, 420], 30)
+    return d
+  }
+
+  it('takes the joined ends, the signal and the turnout at an end of a track along when that end is dragged', () => {
+    const d = signalledJunction()
+    expect(trackEndFollowers(d, 'B2', 1)).toEqual({ ends: [{ block: 'B3', index: 0 }, { block: 'B4', index: 0 }], signals: ['S2'], turnouts: ['T1'] })
+    // (600,400) + (41,-62) = (641,338): on the 20-unit grid (640,340), so the end moved by (40,-60) (worked by hand)
+    movePathPoint(d, 'B2', 1, 41, -62)
+    expect(d.diagram.blocks.B2!.path).toEqual([[400, 400], [640, 340]])
+    expect(d.diagram.blocks.B3!.path).toEqual([[640, 340], [800, 400]])
+    expect(d.diagram.blocks.B4!.path).toEqual([[640, 340], [680, 480], [840, 480]])
+    expect(d.diagram.turnouts.T1!.at).toEqual([640, 340])
+    // the signal keeps its place beside the end: moved by as much as the end
+    expect(d.diagram.signals.S2!.at).toEqual([620, 360])
+    // what stands at the other end of B2 (S1 at the exit of B1) and B1 itself stay
+    expect(d.diagram.signals.S1!.at).toEqual([380, 420])
+    expect(d.diagram.blocks.B1!.path).toEqual([[200, 400], [400, 400]])
+    expect(validateLayout(d)).toMatchObject({ ok: true })
+  })
+
+  it('takes the signal of the neighbour that ends at the dragged end along too', () => {
+    const d = signalledJunction()
+    // B2 starts where B1 ends, and S1 stands at the exit of B1 there
+    expect(trackEndFollowers(d, 'B2', 0)).toEqual({ ends: [{ block: 'B1', index: 1 }], signals: ['S1'], turnouts: [] })
+    movePathPoint(d, 'B2', 0, 0, 40)
+    expect(d.diagram.blocks.B1!.path).toEqual([[200, 400], [400, 440]])
+    expect(d.diagram.blocks.B2!.path).toEqual([[400, 440], [600, 400]])
+    expect(d.diagram.signals.S1!.at).toEqual([380, 460])
+    expect(d.diagram.signals.S2!.at).toEqual([580, 420])
+  })
+
+  it('moves a bend, and an end with nothing at it, alone', () => {
+    const d = signalledJunction()
+    expect(trackEndFollowers(d, 'B4', 1)).toEqual({ ends: [], signals: [], turnouts: [] })
+    // the start of the line: S1 stands at the other end of B1, so it stays
+    expect(trackEndFollowers(d, 'B1', 0)).toEqual({ ends: [], signals: [], turnouts: [] })
+    const before = structuredClone(d)
+    movePathPoint(d, 'B1', 0, -40, 0)
+    expect(d.diagram.blocks.B1!.path).toEqual([[160, 400], [400, 400]])
+    expect({ ...d.diagram, blocks: { ...d.diagram.blocks, B1: before.diagram.blocks.B1 } }).toEqual(before.diagram)
+  })
+
+  it('makes each step of a drag a new layout that shares what did not move and leaves the start as it was', () => {
+    const start = signalledJunction()
+    const kept = structuredClone(start)
+    expect(dragMoves(start, { kind: 'block', id: 'B2' }, 1)).toEqual({ blocks: ['B2', 'B3', 'B4'], berths: [], signals: ['S2'], turnouts: ['T1'], labels: [] })
+    expect(dragMoves(start, { kind: 'block', id: 'B2' }, null)).toEqual({ blocks: ['B2'], berths: ['B2'], signals: [], turnouts: [], labels: [] })
+    expect(dragMoves(start, { kind: 'signal', id: 'S1' }, null)).toMatchObject({ blocks: [], signals: ['S1'] })
+    const step = dragStep(start, { kind: 'block', id: 'B2' }, 1, 40, -60)
+    expect(start).toEqual(kept)
+    expect(step.diagram.blocks.B3!.path[0]).toEqual([640, 340])
+    expect(step.diagram.signals.S2!.at).toEqual([620, 360])
+    // untouched parts are the start's own objects
+    expect(step.diagram.blocks.B1).toBe(start.diagram.blocks.B1)
+    expect(step.diagram.signals.S1).toBe(start.diagram.signals.S1)
+    expect(step.blocks).toBe(start.blocks)
+    expect(step.signals).toBe(start.signals)
+    // the same as the edit made in place on a copy
+    const inPlace = structuredClone(kept)
+    movePathPoint(inPlace, 'B2', 1, 40, -60)
+    expect(step).toEqual(inPlace)
+    const whole = dragStep(start, { kind: 'block', id: 'B2' }, null, 20, 20)
+    expect(whole.diagram.blocks.B2!.path).toEqual([[420, 420], [620, 420]])
+    expect(whole.diagram.blocks.B3).toBe(start.diagram.blocks.B3)
+    expect(whole.diagram.signals).toBe(start.diagram.signals)
   })
 
   it('finds the item an error is about from its path', () => {

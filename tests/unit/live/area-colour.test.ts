@@ -39,7 +39,10 @@ describe('areaColour', () => {
       expect(THEME_ROLES).toContain(`area-${i}`)
       expect(themes.dark[`area-${i}` as 'area-0']).toMatch(/^#[0-9a-f]{6}$/)
       expect(themes.light[`area-${i}` as 'area-0']).toMatch(/^#[0-9a-f]{6}$/)
+      // and the faint inside of its band
+      expect(THEME_ROLES).toContain(`area-${i}-wash`)
     })
-    expect(THEME_ROLES.filter(r => r.startsWith('area-'))).toHaveLength(AREA_COLOUR_NAMES.length)
+    expect(THEME_ROLES.filter(r => /^area-\d+$/.test(r))).toHaveLength(AREA_COLOUR_NAMES.length)
+    expect(THEME_ROLES.filter(r => /^area-\d+-wash$/.test(r))).toHaveLength(AREA_COLOUR_NAMES.length)
   })
 })

@@ -7,6 +7,7 @@
 import { describe, expect, it } from 'vitest'
 import { hex as referenceContrast } from 'wcag-contrast'
 import { palette, themes, type ThemeColours } from '../../../tailwind.config'
+import { AREA_COLOUR_NAMES } from '#shared/schemas/layout'
 import { blend, contrastRatio, relativeLuminance } from '#shared/theme/contrast'
 
 type Criterion = 'SC 1.4.3' | 'SC 1.4.11'
@@ -55,6 +56,21 @@ function pairs(t: ThemeColours): Pair[] {
   mark('"!" on the shows-more-than-the-line flag', t.glyph, t.warn)
   mark('alarm halo colour', t.alarm, t.bg)
   mark('turnout tag edge', t['border-strong'], t.surface)
+  // areas of control: each colour an owner can pick draws a band under the area's track (components/panel/
+  // PanelAreaBands.vue): edges in the full colour on the diagram's ground, a faint inside (area-N-wash) the
+  // track and its marks are drawn on; the same colour draws the legend's line and the editor's swatch on a card.
+  // (Drawn as a wash alone, at 22 % over the ground as it was, no area colour reached 3:1 against the ground in
+  // either theme (1.3 to 1.6:1), and a wash strong enough for 3:1 takes the free track under 3:1 on it.)
+  AREA_COLOUR_NAMES.forEach((name, i) => {
+    const colour = t[`area-${i}` as 'area-0']
+    const inside = t[`area-${i}-wash` as 'area-0-wash']
+    mark(`${name} band edge on the diagram's ground`, colour, t.bg)
+    mark(`${name} band edge beside the band's inside`, colour, inside)
+    mark(`free track on the ${name} band`, t['track-free'], inside)
+    mark(`occupied track on the ${name} band`, t['track-occupied'], inside)
+    mark(`detector drop-out mark on the ${name} band`, t.warn, inside)
+    mark(`${name} legend line and swatch on a card`, colour, t.surface)
+  })
   text('names on the drawing', t.text, t.bg)
   text('small names on the drawing', t.dim, t.bg)
   text('turnout id in its tag', t.text, t.surface)
