@@ -46,9 +46,10 @@ function simulated(o: FakeOptions, layout: Layout, send: Send, log: Log): Mode {
   if (memory) log(memory.note)
   const sim = new Simulation(layout, plans, {
     seed, spadChance: o.spadChance, dropoutChance: o.dropoutChance, speedFactor: o.speedFactor, ignoreSignals: o.ignoreSignals,
-    turnouts: memory?.positions,
+    // no memory, or nothing in it yet: a layout seen for the first time
+    turnouts: memory?.positions ?? undefined,
   })
-  const remember = memory && o.turnoutMemory ? turnoutMemoryWriter(o.turnoutMemory, memory.positions) : null
+  const remember = memory && o.turnoutMemory ? turnoutMemoryWriter(o.turnoutMemory, memory.positions ?? {}) : null
   const aspects: Record<string, Aspect> = {}
   const badSignals = new Set<string>()
   const emit = (r: StepResult) => {

@@ -50,6 +50,7 @@ pg_create_db blockbell_db_tests
 pg_create_db blockbell_restart
 pg_create_db blockbell_panel_live
 pg_create_db blockbell_several
+pg_create_db blockbell_fake_start
 
 export BLOCKBELL_DB_HOST=127.0.0.1 BLOCKBELL_DB_PORT="$PG_PORT" BLOCKBELL_DB_USER="$PG_USER" BLOCKBELL_DB_PASSWORD="$PG_PASSWORD"
 export BLOCKBELL_DB_TEST_NAME=blockbell_db_tests

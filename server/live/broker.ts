@@ -3,6 +3,7 @@ import { Aedes, type Client } from 'aedes'
 import { deviceRetainAllowed, devicePublishAllowed, deviceSubscribeAllowed, type BrokerIdentity } from './device-access'
 import { DeviceSignInGuard } from './device-sign-in'
 import { mqttPacketSizeGuard } from './mqtt-packet-limit'
+import { RetainedOrder } from './retained-order'
 
 export interface BrokerOptions {
   host: string
@@ -38,6 +39,12 @@ const MAX_RETAINED_BYTES = 1024
 
 const identities = new WeakMap<Client, BrokerIdentity>()
 const subscriptions = new WeakMap<Client, Set<string>>()
+const retainedOrders = new WeakMap<Client, RetainedOrder>()
+const retainedOrderOf = (client: Client) => {
+  let order = retainedOrders.get(client)
+  if (!order) retainedOrders.set(client, order = new RetainedOrder())
+  return order
+}
 
 // aedes keeps its connected clients by client id; its type declarations leave the map out.
 const clientsOf = (broker: Aedes) => (broker as unknown as { clients: Record<string, Client> }).clients
@@ -110,7 +117,11 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
     },
     authorizeSubscribe: (client, sub, done) => {
       const identity = client ? identities.get(client) : undefined
-      if (!client || identity?.kind === 'server') return done(null, sub)
+      if (!client) return done(null, sub)
+      if (identity?.kind === 'server') {
+        retainedOrderOf(client).subscribed(sub.topic)
+        return done(null, sub)
+      }
       const held = subscriptions.get(client) ?? new Set<string>()
       subscriptions.set(client, held)
       if (!identity || !deviceSubscribeAllowed(sub.topic, identity) || (!held.has(sub.topic) && held.size >= MAX_SUBSCRIPTIONS)) {
@@ -118,7 +129,15 @@ export async function startBroker(options: BrokerOptions): Promise<RunningBroker
         return done(null, null) // refused in the SUBACK (return code 0x80)
       }
       held.add(sub.topic)
+      retainedOrderOf(client).subscribed(sub.topic)
       done(null, sub)
+    },
+    // Called, in order, for every message about to go to a connection (devices and the server's own clients
+    // alike). aedes sends a new subscription's stored retained messages without a broker id and live ones with
+    // it: a stored copy must not arrive after a newer live message on its topic (server/live/retained-order.ts).
+    authorizeForward: (client, packet) => {
+      const stored = packet.retain && !packet.brokerId
+      return retainedOrderOf(client).forward(packet.topic, stored) ? packet : null
     },
   })
   const server: Server = createServer((socket) => {

@@ -1,6 +1,6 @@
-// The fake layout (fake-hardware/index.ts) as a real process in scripted mode, signed in to the server's
-// broker as the device `fake-layout`. A test waits for the lines it prints as it publishes each event, so
-// it knows when a detector changed without guessing at timings.
+// The fake layout (fake-hardware/index.ts) as a real process, signed in to the server's broker as the device
+// `fake-layout`: in scripted mode, or running its simulated trains. A test waits for the lines it prints as
+// it publishes each event or moves a train, so it knows when a detector changed without guessing at timings.
 import { spawn, type ChildProcess } from 'node:child_process'
 import { resolve } from 'node:path'
 
@@ -29,8 +29,12 @@ export interface FakeLayoutOptions {
 }
 
 export function runFakeLayoutScript(o: FakeLayoutOptions): FakeLayoutRun {
-  const args = ['fake-hardware/index.ts', '--script', o.script, '--slug', o.slug ?? 'wrenfold', ...(o.layout ? ['--layout', o.layout] : [])]
-  const child = spawn(resolve(REPO, 'node_modules/.bin/tsx'), args, {
+  return runFakeLayout(o, ['--script', o.script, '--slug', o.slug ?? 'wrenfold', ...(o.layout ? ['--layout', o.layout] : [])])
+}
+
+/** The fake layout with these command-line options (`--help` lists them), e.g. its simulated trains. */
+export function runFakeLayout(o: Omit<FakeLayoutOptions, 'script'>, options: string[]): FakeLayoutRun {
+  const child = spawn(resolve(REPO, 'node_modules/.bin/tsx'), ['fake-hardware/index.ts', ...options], {
     cwd: REPO,
     env: {
       ...process.env,

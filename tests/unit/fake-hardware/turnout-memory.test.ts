@@ -11,7 +11,8 @@ describe('the fake layout\'s turnout memory', () => {
 
   it('keeps each position as it is reported, and reads it back next time', () => {
     const path = join(dir, 'kept.json')
-    expect(readTurnoutMemory(path, demoLayout()).positions).toEqual({})
+    // nothing kept yet: no positions at all (a layout seen for the first time), not "every turnout known normal"
+    expect(readTurnoutMemory(path, demoLayout())).toMatchObject({ positions: null, note: expect.stringMatching(/^no turnout positions kept in .* yet: .*first routes before they are reported$/) })
     const remember = turnoutMemoryWriter(path, {})
     remember('T5', 'reverse')
     remember('T3', 'reverse')
@@ -20,10 +21,10 @@ describe('the fake layout\'s turnout memory', () => {
     expect(readTurnoutMemory(path, demoLayout()).positions).toEqual({ T5: 'reverse', T3: 'normal' })
   })
 
-  it('ignores a file that is not JSON, and ids or positions the layout does not have', () => {
+  it('takes a file that is not JSON for no positions at all, and ignores ids or positions the layout does not have', () => {
     const broken = join(dir, 'broken.json')
     writeFileSync(broken, '{"T5": "rev')
-    expect(readTurnoutMemory(broken, demoLayout())).toMatchObject({ positions: {}, note: expect.stringMatching(/^ignoring .*turnouts start normal$/) })
+    expect(readTurnoutMemory(broken, demoLayout())).toMatchObject({ positions: null, note: expect.stringMatching(/^ignoring .*; turnouts start normal, set for the trains' first routes before they are reported$/) })
     const odd = join(dir, 'odd.json')
     writeFileSync(odd, JSON.stringify({ T5: 'reverse', T99: 'reverse', T4: 'unknown', T6: 3 }))
     expect(readTurnoutMemory(odd, demoLayout()).positions).toEqual({ T5: 'reverse' })
